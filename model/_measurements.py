@@ -1,0 +1,599 @@
+"""Measurement tables: the file format, its limits and its parser.
+
+A measurement table is a small CSV file of our own design (documented in
+``docs/measurements-format.md``): one row per measurement, with the columns
+
+========== ======== ==========================================================
+column     required meaning
+========== ======== ==========================================================
+z          yes      redshift (CMB frame for supernovae)
+kind       yes      one of :data:`MEASUREMENT_KINDS`
+value      yes      the measured number, in the unit of its kind
+error      yes      its 1-sigma uncertainty, same unit, > 0
+label      no       free text (at most ``max_cell_chars`` characters)
+z_helio    no       heliocentric redshift, ``distance_modulus`` rows only
+group      no       a name shared by exactly two rows whose errors correlate
+correlation no      their correlation coefficient, -1 < r < 1 (both rows)
+========== ======== ==========================================================
+
+and optionally a covariance file: N lines of N comma-separated numbers, the
+complete covariance of the N rows in file order (``error`` must then be the
+square root of its diagonal).
+
+Parsing is all or nothing. Every refusal is a :class:`MeasurementFormatError`
+that names the file, the line (1-based, counting every physical line) and the
+column (1-based cell number) at fault. Errors, drawn as a tree::
+
+    ValueError
+    └── ModelError                    (model._errors)
+        └── MeasurementFormatError    a file breaks the format; .source, .line, .column
+"""
+
+import dataclasses
+import math
+import re
+
+import numpy as np
+from scipy.linalg import lapack
+
+from ._errors import ModelError
+
+__all__ = [
+    "MEASUREMENT_KINDS",
+    "MEASUREMENT_COLUMNS",
+    "MeasurementFormatError",
+    "MeasurementLimits",
+    "MeasurementSet",
+    "parse_measurements",
+    "read_measurements",
+]
+
+#: kind -> (unit, description). Every kind's value is compared with the model's
+#: prediction at the row's redshift.
+MEASUREMENT_KINDS = {
+    "distance_modulus": ("mag", "supernova distance modulus mu; absolute-magnitude offset free"),
+    "luminosity_distance": ("Mpc", "luminosity distance D_L"),
+    "angular_diameter_distance": ("Mpc", "angular-diameter distance D_A"),
+    "comoving_distance": ("Mpc", "line-of-sight comoving distance D_C"),
+    "dm_over_rd": ("1", "transverse comoving distance over the sound horizon at drag, D_M/r_d"),
+    "dh_over_rd": ("1", "Hubble distance c/H(z) over the sound horizon at drag, D_H/r_d"),
+    "dv_over_rd": ("1", "volume-averaged distance over the sound horizon at drag, D_V/r_d"),
+    "hubble_parameter": ("km/s/Mpc", "expansion rate H(z)"),
+}
+
+#: column name -> required?
+MEASUREMENT_COLUMNS = {
+    "z": True,
+    "kind": True,
+    "value": True,
+    "error": True,
+    "label": False,
+    "z_helio": False,
+    "group": False,
+    "correlation": False,
+}
+
+# Largest redshift accepted: the range model.evaluate covers.
+_Z_MAX = 1.0e5
+# Relative asymmetry tolerated in a covariance file, |C_ij - C_ji| / sqrt(C_ii C_jj):
+# files printed with 9+ significant digits pass, a transposed or mistyped entry does not.
+_SYMMETRY_TOLERANCE = 1.0e-8
+# The error column must equal sqrt(diag C) to this relative tolerance (rounded printing).
+_DIAGONAL_TOLERANCE = 1.0e-2
+# ASCII decimal numbers only: float() alone would also take "1_0", "nan" and non-ASCII digits.
+_NUMBER = re.compile(r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
+_NOT_FINITE = {"nan", "+nan", "-nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"}
+# Characters refused anywhere: C0 controls except tab, DEL, C1 controls.
+_CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f]")
+
+
+class MeasurementFormatError(ModelError):
+    """A measurement or covariance file breaks the format; nothing was loaded.
+
+    Attributes
+    ----------
+    source : str
+        ``"measurements"`` or ``"covariance"``: which file is at fault.
+    line : int
+        1-based physical line number in that file.
+    column : int
+        1-based cell number on that line (for a problem between cells, the
+        cell it falls in; for a missing cell, the position it should have).
+    column_name : str or None
+        Header name of that column, where there is one.
+    reason : str
+        What is wrong and how to put it right.
+    """
+
+    def __init__(self, source, line, column, reason, column_name=None):
+        self.source = source
+        self.line = int(line)
+        self.column = int(column)
+        self.column_name = column_name
+        self.reason = reason
+        where = f"{source} file, line {self.line}, column {self.column}"
+        if column_name:
+            where += f" ({column_name})"
+        super().__init__(f"{where}: {reason}")
+
+
+@dataclasses.dataclass(frozen=True)
+class MeasurementLimits:
+    """Size limits the parser enforces before and while reading.
+
+    Attributes
+    ----------
+    max_bytes : int
+        Largest measurement file, bytes (default 1 MiB).
+    max_rows : int
+        Most measurement rows (default 5000).
+    max_cell_chars : int
+        Longest cell, characters after trimming spaces (default 200).
+    max_covariance_bytes : int
+        Largest covariance file, bytes (default 16 MiB: about 1000 x 1000
+        entries printed with 16 characters each).
+    """
+
+    max_bytes: int = 1 << 20
+    max_rows: int = 5000
+    max_cell_chars: int = 200
+    max_covariance_bytes: int = 16 << 20
+
+
+def _frozen(array):
+    array = np.array(array)
+    array.flags.writeable = False
+    return array
+
+
+@dataclasses.dataclass(frozen=True, eq=False, repr=False)
+class MeasurementSet:
+    """An immutable, validated table of measurements with their covariance.
+
+    Arrays are read-only and aligned: entry ``i`` of each belongs to row ``i``
+    of the file (file order).
+
+    Attributes
+    ----------
+    z : ndarray
+        Redshift of each measurement.
+    kind : ndarray of str
+        Kind of each measurement (a key of :data:`MEASUREMENT_KINDS`).
+    value, error : ndarray
+        Measured value and its 1-sigma error, in the kind's unit.
+    z_helio : ndarray
+        Heliocentric redshift (equal to ``z`` where the file leaves it empty).
+    label, group : tuple of str
+        Free text and pair name ('' where empty).
+    line : ndarray of int
+        Line of the measurement file each row came from (for messages).
+    covariance : ndarray, shape (N, N)
+        Complete covariance (diagonal from ``error`` plus pair correlations,
+        or the covariance file).
+    cholesky : ndarray, shape (N, N)
+        Its lower Cholesky factor L, ``covariance = L @ L.T``.
+    covariance_source : str
+        ``"diagonal"``, ``"pairs"`` or ``"file"``.
+    """
+
+    z: np.ndarray
+    kind: np.ndarray
+    value: np.ndarray
+    error: np.ndarray
+    z_helio: np.ndarray
+    label: tuple
+    group: tuple
+    line: np.ndarray
+    covariance: np.ndarray
+    cholesky: np.ndarray
+    covariance_source: str
+
+    def __len__(self):
+        return int(self.z.size)
+
+    @property
+    def kinds_present(self):
+        """Kinds that occur, in the order of :data:`MEASUREMENT_KINDS`."""
+        present = set(self.kind.tolist())
+        return tuple(k for k in MEASUREMENT_KINDS if k in present)
+
+    def mask(self, kind):
+        """Boolean row mask of one kind (read-only)."""
+        if kind not in MEASUREMENT_KINDS:
+            raise ValueError(f"kind: unknown {kind!r}; expected one of {', '.join(MEASUREMENT_KINDS)}")
+        return _frozen(self.kind == kind)
+
+    def __repr__(self):
+        counts = ", ".join(f"{k}: {int(np.sum(self.kind == k))}" for k in self.kinds_present)
+        return f"MeasurementSet(n={len(self)}, {{{counts}}}, covariance={self.covariance_source!r})"
+
+
+# --------------------------------------------------------------------------------------------
+# Low-level reading: bytes -> decoded lines, each with its line number
+
+
+def _split_lines(data, source, max_bytes):
+    """Yield (line_number, text) for every physical line; refuse size, encoding, controls."""
+    if isinstance(data, str):
+        data = data.encode("utf-8", "surrogatepass")
+    elif not isinstance(data, (bytes, bytearray, memoryview)):
+        raise TypeError(f"{source}: expected bytes or str, got {type(data).__name__}")
+    data = bytes(data)
+    if len(data) > max_bytes:
+        line = data.count(b"\n", 0, max_bytes) + 1
+        raise MeasurementFormatError(
+            source, line, 1, f"the file is larger than the limit of {max_bytes} bytes; "
+            "the limit is reached on this line")
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    for number, raw in enumerate(data.split(b"\n"), start=1):
+        if raw.endswith(b"\r"):
+            raw = raw[:-1]
+        try:
+            text = raw.decode("utf-8")
+        except UnicodeDecodeError as exc:
+            prefix = raw[: exc.start].decode("utf-8", "replace")
+            raise MeasurementFormatError(
+                source, number, _cell_index(prefix),
+                f"byte 0x{raw[exc.start]:02x} at character {len(prefix) + 1} is not UTF-8; "
+                "save the file as UTF-8 text (a binary file or another encoding was given)") from None
+        bad = _CONTROL.search(text)
+        if bad:
+            char = bad.group()
+            what = "a NUL byte: this looks like a binary file" if char == "\x00" else \
+                f"control character U+{ord(char):04X}"
+            raise MeasurementFormatError(
+                source, number, _cell_index(text[: bad.start()]),
+                f"character {bad.start() + 1}: {what}; only plain text is accepted")
+        yield number, text
+
+
+def _split_cells(text, source, number):
+    """Split one line on commas; a cell may be wrapped in double quotes ("" is a quote)."""
+    cells = []
+    i, n = 0, len(text)
+    while True:
+        while i < n and text[i] in " \t":
+            i += 1
+        if i < n and text[i] == '"':
+            i += 1
+            chunk = []
+            while True:
+                j = text.find('"', i)
+                if j < 0:
+                    raise MeasurementFormatError(
+                        source, number, len(cells) + 1, "a quoted cell is not closed; add the closing \"")
+                chunk.append(text[i:j])
+                if j + 1 < n and text[j + 1] == '"':
+                    chunk.append('"')
+                    i = j + 2
+                    continue
+                i = j + 1
+                break
+            cell = "".join(chunk)
+            while i < n and text[i] in " \t":
+                i += 1
+            if i < n and text[i] != ",":
+                raise MeasurementFormatError(
+                    source, number, len(cells) + 1,
+                    "text follows a closing quote; put a comma after the quoted cell")
+        else:
+            j = text.find(",", i)
+            j = n if j < 0 else j
+            cell = text[i:j].strip(" \t")
+            i = j
+        cells.append(cell)
+        if i >= n:
+            return cells
+        i += 1  # the comma
+
+
+def _cell_index(prefix):
+    """1-based cell number at the end of ``prefix`` (quote-aware count of separating commas)."""
+    inside, count = False, 1
+    for char in prefix:
+        if char == '"':
+            inside = not inside
+        elif char == "," and not inside:
+            count += 1
+    return count
+
+
+def _content_lines(data, source, max_bytes):
+    """Non-blank, non-comment lines as (line_number, cells)."""
+    for number, text in _split_lines(data, source, max_bytes):
+        stripped = text.strip(" \t")
+        if not stripped or stripped.startswith("#"):
+            continue
+        yield number, _split_cells(text, source, number)
+
+
+def _number(cell, source, number, column, name=None):
+    if not cell:
+        raise MeasurementFormatError(source, number, column, "empty cell; a number is required", name)
+    if cell.lower() in _NOT_FINITE:
+        raise MeasurementFormatError(
+            source, number, column, f"{cell!r}: NaN and infinity are not accepted", name)
+    if not _NUMBER.fullmatch(cell):
+        raise MeasurementFormatError(
+            source, number, column, f"{cell!r} is not a number (write e.g. 0.51, -3 or 1.2e-3)", name)
+    value = float(cell)
+    if not math.isfinite(value):
+        raise MeasurementFormatError(
+            source, number, column, f"{cell!r} overflows a double-precision number", name)
+    return value
+
+
+# --------------------------------------------------------------------------------------------
+# The measurement table
+
+
+def _read_header(number, cells, source, limits):
+    columns = {}
+    for position, raw in enumerate(cells, start=1):
+        name = raw.strip().lower()
+        if len(name) > limits.max_cell_chars:
+            raise MeasurementFormatError(
+                source, number, position, f"header cell longer than {limits.max_cell_chars} characters")
+        if name not in MEASUREMENT_COLUMNS:
+            raise MeasurementFormatError(
+                source, number, position,
+                f"unknown column {raw!r}; the columns are {', '.join(MEASUREMENT_COLUMNS)} "
+                "(the first line that is not blank or a # comment is the header)")
+        if name in columns:
+            raise MeasurementFormatError(
+                source, number, position,
+                f"duplicate column {name!r} (first at column {columns[name] + 1}); keep one", name)
+        columns[name] = position - 1
+    for name, required in MEASUREMENT_COLUMNS.items():
+        if required and name not in columns:
+            raise MeasurementFormatError(
+                source, number, len(cells) + 1,
+                f"the header lacks the required column {name!r} "
+                f"(required: {', '.join(n for n, r in MEASUREMENT_COLUMNS.items() if r)})", name)
+    if "correlation" in columns and "group" not in columns:
+        raise MeasurementFormatError(
+            source, number, columns["correlation"] + 1,
+            "a correlation column needs a group column naming the pairs", "correlation")
+    return columns
+
+
+def _read_row(number, cells, columns, source, limits):
+    if len(cells) != len(columns):
+        missing = len(cells) < len(columns)
+        raise MeasurementFormatError(
+            source, number, min(len(cells), len(columns)) + 1,
+            f"{len(cells)} cells where the header has {len(columns)}; "
+            + ("a cell is missing" if missing else "remove the extra cells"))
+    for position, cell in enumerate(cells, start=1):
+        if len(cell) > limits.max_cell_chars:
+            raise MeasurementFormatError(
+                source, number, position,
+                f"cell of {len(cell)} characters; the limit is {limits.max_cell_chars}")
+
+    def cell_of(name):
+        return cells[columns[name]] if name in columns else ""
+
+    def fail(name, reason):
+        raise MeasurementFormatError(source, number, columns[name] + 1, reason, name)
+
+    kind = cell_of("kind").lower()
+    if kind not in MEASUREMENT_KINDS:
+        fail("kind", f"unknown kind {cell_of('kind')!r}; the kinds are {', '.join(MEASUREMENT_KINDS)}")
+    z = _number(cell_of("z"), source, number, columns["z"] + 1, "z")
+    lowest_ok = 0.0 <= z if kind == "hubble_parameter" else 0.0 < z
+    if not (lowest_ok and z <= _Z_MAX):
+        low = "0 <= z" if kind == "hubble_parameter" else "0 < z"
+        fail("z", f"redshift {z:g} outside {low} <= {_Z_MAX:g} for kind {kind}")
+    value = _number(cell_of("value"), source, number, columns["value"] + 1, "value")
+    if kind != "distance_modulus" and value <= 0.0:
+        fail("value", f"a {kind} must be positive, got {value:g}")
+    error = _number(cell_of("error"), source, number, columns["error"] + 1, "error")
+    if not error > 0.0:
+        fail("error", f"the error must be positive, got {error:g}")
+    z_helio = z
+    if cell_of("z_helio"):
+        if kind != "distance_modulus":
+            fail("z_helio", f"z_helio applies to distance_modulus rows only, this row is {kind}")
+        z_helio = _number(cell_of("z_helio"), source, number, columns["z_helio"] + 1, "z_helio")
+        if not 0.0 < z_helio <= _Z_MAX:
+            fail("z_helio", f"heliocentric redshift {z_helio:g} outside 0 < z_helio <= {_Z_MAX:g}")
+    group = cell_of("group")
+    correlation = None
+    if cell_of("correlation"):
+        if not group:
+            fail("correlation", "a correlation needs a group naming the row it pairs with")
+        correlation = _number(cell_of("correlation"), source, number,
+                              columns["correlation"] + 1, "correlation")
+        if not -1.0 < correlation < 1.0:
+            fail("correlation", f"correlation {correlation:g} outside -1 < r < 1")
+    elif group:
+        fail("group" if "correlation" not in columns else "correlation",
+             f"row of group {group!r} gives no correlation coefficient")
+    return z, kind, value, error, z_helio, cell_of("label"), group, correlation
+
+
+def _pair_covariance(rows, columns, source):
+    """Diagonal covariance from the errors plus the off-diagonal entries of each group."""
+    error = np.array([r["error"] for r in rows])
+    covariance = np.diag(error**2)
+    members = {}
+    for index, row in enumerate(rows):
+        if row["group"]:
+            members.setdefault(row["group"], []).append(index)
+    for name, indices in members.items():
+        column = columns["group"] + 1
+        if len(indices) != 2:
+            last = rows[indices[-1]]
+            raise MeasurementFormatError(
+                source, last["line"], column,
+                f"group {name!r} has {len(indices)} row(s); a group is exactly two correlated rows "
+                f"(lines {', '.join(str(rows[i]['line']) for i in indices)})", "group")
+        i, j = indices
+        if rows[i]["correlation"] != rows[j]["correlation"]:
+            raise MeasurementFormatError(
+                source, rows[j]["line"], columns["correlation"] + 1,
+                f"group {name!r}: correlation {rows[j]['correlation']:g} differs from "
+                f"{rows[i]['correlation']:g} on line {rows[i]['line']}; give the same value", "correlation")
+        covariance[i, j] = covariance[j, i] = rows[i]["correlation"] * error[i] * error[j]
+    return covariance, ("pairs" if members else "diagonal")
+
+
+def _cholesky(covariance, fail_at):
+    """Lower Cholesky factor; ``fail_at(k)`` builds the error for a failing leading minor k."""
+    factor, info = lapack.dpotrf(covariance, lower=1, clean=1)
+    if info != 0:
+        raise fail_at(info - 1 if info > 0 else 0)
+    return factor
+
+
+def _read_covariance(data, size, error, lines, limits):
+    source = "covariance"
+    rows, row_lines = [], []
+    for number, cells in _content_lines(data, source, limits.max_covariance_bytes):
+        if len(rows) == size:
+            raise MeasurementFormatError(
+                source, number, 1, f"more than {size} rows; the measurement file has {size} rows")
+        if len(cells) != size:
+            raise MeasurementFormatError(
+                source, number, min(len(cells), size) + 1,
+                f"{len(cells)} numbers where {size} (one per measurement row) are needed")
+        rows.append([_number(c, source, number, k) for k, c in enumerate(cells, start=1)])
+        row_lines.append(number)
+    if len(rows) < size:
+        last = row_lines[-1] + 1 if row_lines else 1
+        raise MeasurementFormatError(
+            source, last, 1, f"{len(rows)} rows where {size} (one per measurement row) are needed")
+    covariance = np.array(rows, dtype=float)
+    diagonal = np.diag(covariance).copy()
+    for i in range(size):
+        if not diagonal[i] > 0.0:
+            raise MeasurementFormatError(
+                source, row_lines[i], i + 1, f"diagonal entry {diagonal[i]:g} must be positive")
+    scale = np.sqrt(np.outer(diagonal, diagonal))
+    asymmetric = np.abs(covariance - covariance.T) > _SYMMETRY_TOLERANCE * scale
+    if asymmetric.any():
+        i, j = np.argwhere(np.triu(asymmetric))[0]
+        raise MeasurementFormatError(
+            source, row_lines[j], i + 1,
+            f"not symmetric: entry ({j + 1}, {i + 1}) = {covariance[j, i]:g} but "
+            f"({i + 1}, {j + 1}) = {covariance[i, j]:g} on line {row_lines[i]}")
+    mismatch = np.abs(np.sqrt(diagonal) / error - 1.0) > _DIAGONAL_TOLERANCE
+    if mismatch.any():
+        i = int(np.argmax(mismatch))
+        raise MeasurementFormatError(
+            source, row_lines[i], i + 1,
+            f"sqrt of the diagonal, {math.sqrt(diagonal[i]):.6g}, differs from the error "
+            f"{error[i]:.6g} on line {lines[i]} of the measurement file by more than "
+            f"{_DIAGONAL_TOLERANCE:.0%}; the covariance file must be the complete covariance, "
+            "rows in the order of the measurement file")
+    covariance = 0.5 * (covariance + covariance.T)
+
+    def fail_at(k):
+        return MeasurementFormatError(
+            source, row_lines[k], k + 1,
+            f"the covariance is not positive-definite (leading {k + 1} x {k + 1} block fails "
+            "Cholesky factorisation); check for duplicated or fully correlated rows")
+    return covariance, _cholesky(covariance, fail_at)
+
+
+def parse_measurements(data, covariance=None, *, limits=MeasurementLimits()):
+    """Parse a measurement table (and optionally its covariance) into a :class:`MeasurementSet`.
+
+    Parameters
+    ----------
+    data : bytes or str
+        Contents of the measurement file (UTF-8; a byte-order mark is allowed).
+    covariance : bytes or str, optional
+        Contents of a covariance file: N lines of N comma-separated numbers,
+        the complete covariance of the N measurement rows in file order, in
+        the product of the rows' units. Without it the covariance is diagonal
+        (``error**2``) plus the correlated pairs named by ``group``.
+    limits : MeasurementLimits, optional
+        Size limits to enforce.
+
+    Returns
+    -------
+    MeasurementSet
+
+    Raises
+    ------
+    MeasurementFormatError
+        For any departure from the format, naming the file, line and column.
+        Nothing is returned partially.
+    """
+    source = "measurements"
+    columns, rows, last_line = None, [], 0
+    for number, cells in _content_lines(data, source, limits.max_bytes):
+        last_line = number
+        if columns is None:
+            columns = _read_header(number, cells, source, limits)
+            continue
+        if len(rows) == limits.max_rows:
+            raise MeasurementFormatError(
+                source, number, 1, f"more than {limits.max_rows} measurement rows (the limit)")
+        fields = _read_row(number, cells, columns, source, limits)
+        if covariance is not None and fields[6]:
+            raise MeasurementFormatError(
+                source, number, columns["group"] + 1,
+                "a covariance file gives every correlation; leave group and correlation empty",
+                "group")
+        rows.append(dict(zip(("z", "kind", "value", "error", "z_helio", "label", "group",
+                              "correlation"), fields), line=number))
+    if columns is None:
+        raise MeasurementFormatError(
+            source, max(last_line, 1), 1,
+            f"no header line; start with e.g. 'z,kind,value,error' (columns: {', '.join(MEASUREMENT_COLUMNS)})")
+    if not rows:
+        raise MeasurementFormatError(source, last_line + 1, 1, "the file has a header but no measurement rows")
+
+    error = np.array([r["error"] for r in rows])
+    lines = [r["line"] for r in rows]
+    if covariance is None:
+        matrix, covariance_source = _pair_covariance(rows, columns, source)
+
+        def fail_at(k):  # only reachable through rounding: |r| < 1 keeps pairs definite
+            return MeasurementFormatError(
+                source, lines[k], columns.get("correlation", 0) + 1,
+                "the correlations make the covariance non-positive-definite", "correlation")
+        factor = _cholesky(matrix, fail_at)
+    else:
+        matrix, factor = _read_covariance(covariance, len(rows), error, lines, limits)
+        covariance_source = "file"
+
+    return MeasurementSet(
+        z=_frozen([r["z"] for r in rows]),
+        kind=_frozen([r["kind"] for r in rows]),
+        value=_frozen([r["value"] for r in rows]),
+        error=_frozen(error),
+        z_helio=_frozen([r["z_helio"] for r in rows]),
+        label=tuple(r["label"] for r in rows),
+        group=tuple(r["group"] for r in rows),
+        line=_frozen(np.array(lines, dtype=int)),
+        covariance=_frozen(matrix),
+        cholesky=_frozen(factor),
+        covariance_source=covariance_source,
+    )
+
+
+def read_measurements(path, covariance_path=None, *, limits=MeasurementLimits()):
+    """Read a measurement file (and optional covariance file) from disk.
+
+    Files larger than the limits are refused after reading at most one byte
+    beyond the limit.
+
+    Parameters
+    ----------
+    path, covariance_path : str or os.PathLike
+        Measurement file and optional covariance file.
+    limits : MeasurementLimits, optional
+
+    Returns
+    -------
+    MeasurementSet
+    """
+    def read(p, limit):
+        with open(p, "rb") as handle:
+            return handle.read(limit + 1)
+    covariance = None if covariance_path is None else read(covariance_path, limits.max_covariance_bytes)
+    return parse_measurements(read(path, limits.max_bytes), covariance, limits=limits)
