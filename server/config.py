@@ -1,0 +1,37 @@
+"""Configuration: defaults, then ``FDESK_`` environment variables, then explicit overrides.
+
+Cache settings use flask-caching's own key names (``CACHE_TYPE``, ``CACHE_DIR``,
+``CACHE_REDIS_URL``, ``CACHE_THRESHOLD``...), so ``FDESK_CACHE_TYPE=RedisCache`` just works.
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+__all__ = ["ENV_PREFIX", "default_config", "user_cache_dir", "normalise_prefix"]
+
+ENV_PREFIX = "FDESK"
+
+
+def user_cache_dir() -> Path:
+    """Per-user cache folder (XDG base directory rules): ``$XDG_CACHE_HOME/friedmann-desk``."""
+    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
+    return Path(base) / "friedmann-desk"
+
+
+def default_config() -> dict:
+    return {
+        # FileSystemCache is shared by every worker on one host; the threshold bounds its entries.
+        "CACHE_TYPE": "FileSystemCache",
+        "CACHE_DIR": str(user_cache_dir()),
+        "CACHE_THRESHOLD": 2000,
+        "CACHE_DEFAULT_TIMEOUT": 7 * 24 * 3600,
+        "URL_PREFIX": "/",
+    }
+
+
+def normalise_prefix(prefix: str) -> str:
+    """``cosmo`` / ``/cosmo`` / ``/cosmo/`` -> ``/cosmo/``; empty -> ``/``."""
+    parts = [p for p in str(prefix or "/").split("/") if p]
+    return "/" + "/".join(parts) + ("/" if parts else "")

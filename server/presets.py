@@ -1,0 +1,58 @@
+"""Parameter sets a model card can start from.
+
+Planck 2018 columns: Planck Collaboration 2020, "Planck 2018 results. VI. Cosmological
+parameters", A&A 641, A6, Table 2 (columns TT,TE,EE+lowE+lensing and +BAO). Their base model
+has one massive neutrino of 0.06 eV and two massless ones, N_eff = 3.046, T_CMB = 2.7255 K;
+Ω_b follows from the quoted Ω_b h² and H₀.
+
+Textbook limits switch radiation off (T_CMB = 0) so that the closed forms hold exactly:
+Einstein–de Sitter (Ω_m = 1), empty (Ω_k = 1), de Sitter (Ω_Λ = 1), open matter-only
+(Ω_m = 0.3, Ω_k = 0.7). H₀ = 70 km s⁻¹ Mpc⁻¹ is a round value, common practice, no source.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+from server.codec import ModelState
+
+__all__ = ["Preset", "PRESETS", "apply_preset"]
+
+
+@dataclass(frozen=True)
+class Preset:
+    key: str
+    name: str
+    citation: str
+    values: dict
+
+
+def _planck(h0: float, omega_m: float, omega_b_h2: float) -> dict:
+    # Ω_b = ω_b / h², kept to 7 significant digits (the table quotes ω_b to 4) so links stay short
+    omega_b = float(f"{omega_b_h2 / (h0 / 100.0) ** 2:.7g}")
+    return dict(h0=h0, omega_m=omega_m, omega_b=omega_b, omega_k=0.0, omega_de=None,
+                w0=-1.0, wa=0.0, t_cmb=2.7255, n_eff=3.046, m_nu=(0.06,))
+
+
+def _textbook(omega_m: float, omega_k: float) -> dict:
+    return dict(h0=70.0, omega_m=omega_m, omega_b=None, omega_k=omega_k, omega_de=None,
+                w0=-1.0, wa=0.0, t_cmb=0.0, m_nu=())
+
+
+_PLANCK = "Planck Collaboration 2020, A&A 641, A6, Table 2"
+_TEXT = "closed-form limit, radiation off (T_CMB = 0)"
+
+PRESETS = {p.key: p for p in (
+    Preset("planck18", "Planck 2018 TT,TE,EE+lowE+lensing", _PLANCK, _planck(67.36, 0.3153, 0.02237)),
+    Preset("planck18bao", "Planck 2018 TT,TE,EE+lowE+lensing+BAO", _PLANCK, _planck(67.66, 0.3111, 0.02242)),
+    Preset("eds", "Einstein–de Sitter (Ω_m = 1)", _TEXT, _textbook(1.0, 0.0)),
+    Preset("empty", "Empty universe (Ω_k = 1)", _TEXT, _textbook(0.0, 1.0)),
+    Preset("desitter", "de Sitter (Ω_Λ = 1)", _TEXT, _textbook(0.0, 0.0)),
+    Preset("open", "Open, matter only (Ω_m = 0.3, Ω_k = 0.7)", _TEXT, _textbook(0.3, 0.7)),
+)}
+
+
+def apply_preset(state: ModelState, key: str) -> ModelState:
+    """`state` with every physical input replaced by the preset's; the label becomes its name."""
+    preset = PRESETS[key]
+    return replace(ModelState(slot=state.slot), label=preset.name, **preset.values)

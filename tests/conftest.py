@@ -1,0 +1,39 @@
+"""Shared test setup: headless Chromium options for dash_duo (see ../shared/TOOLCHAIN.md) and a
+fresh app per test, built by the factory with a private cache folder."""
+
+from __future__ import annotations
+
+import os
+import sys
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parent.parent
+if str(ROOT) not in sys.path:
+    sys.path.insert(0, str(ROOT))
+
+
+def pytest_setup_options():
+    """dash[testing] hook: the Chrome options used by dash_duo."""
+    from selenium.webdriver.chrome.options import Options
+
+    options = Options()
+    options.binary_location = os.environ.get("FDESK_CHROMIUM", "/usr/bin/chromium")
+    for flag in ("--headless=new", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage",
+                 "--disable-background-networking", "--disable-component-update", "--disable-sync",
+                 "--no-first-run", "--window-size=1400,900"):
+        options.add_argument(flag)
+    return options
+
+
+@pytest.fixture
+def app_factory(tmp_path):
+    """Build apps through `create_app` with a private FileSystemCache folder."""
+    from server import create_app
+
+    def build(**overrides):
+        config = {"CACHE_TYPE": "FileSystemCache", "CACHE_DIR": str(tmp_path / "cache"), **overrides}
+        return create_app(config)
+
+    return build
