@@ -1,0 +1,103 @@
+"""Public views of the energy budget: Ω_i(z), ρ_i(z), w(z)."""
+
+import numpy as np
+
+from . import _constants as const
+from ._background import components
+from ._errors import ParameterError
+
+__all__ = ["density_parameters", "densities", "w_dark_energy", "w_effective", "COMPONENTS"]
+
+COMPONENTS = ("photons", "neutrinos", "baryons", "cold_dark_matter", "dark_energy", "curvature")
+
+
+def _scale_factors(z, name="z"):
+    try:
+        arr = np.asarray(z, dtype=float)
+    except (TypeError, ValueError):
+        raise ParameterError(name, z, "numbers z > −1", "not numbers") from None
+    if arr.size and not (np.all(np.isfinite(arr)) and arr.min() > -1.0):
+        bad = arr[~(np.isfinite(arr) & (arr > -1.0))].ravel()[0]
+        raise ParameterError(name, float(bad), "z > −1 (scale factor a > 0)",
+                             f"{bad!r} is out of range")
+    return arr
+
+
+def _grouped(cosmo, z):
+    c = components(cosmo, _scale_factors(z))
+    return {
+        "photons": c["photons"],
+        "neutrinos": c["neutrinos_massless"] + c["neutrinos_massive"],
+        "baryons": c["baryons"],
+        "cold_dark_matter": c["cold_dark_matter"],
+        "dark_energy": c["dark_energy"],
+        "curvature": c["curvature"],
+    }
+
+
+def density_parameters(cosmo, z):
+    """Density parameters Ω_i(z) = ρ_i(z)/ρ_crit(z) of every component.
+
+    Parameters
+    ----------
+    cosmo : Cosmology
+    z : array_like
+        Redshifts, any shape, z > −1 (no upper limit: a = 1e-7 is z ≈ 1e7).
+
+    Returns
+    -------
+    dict of str to ndarray
+        ``photons``, ``neutrinos`` (massless and massive), ``baryons``,
+        ``cold_dark_matter``, ``dark_energy`` and ``curvature`` (Ω_k(z) = Ω_k (1+z)²/E²),
+        dimensionless; they sum to 1.
+
+    Notes
+    -----
+    Friedmann's equation divided by H²(z): 1 = Σ_i Ω_i(z) + Ω_k(z) (e.g. Peebles 1993,
+    *Principles of Physical Cosmology*, eq. 5.14). Photons and massless neutrinos scale as
+    a⁻⁴, cold matter as a⁻³, massive neutrinos by the Fermi–Dirac integral, dark energy as
+    ρ_de ∝ a^{−3(1+w₀+w_a)} exp[−3 w_a (1 − a)] (Linder 2003, eq. 5).
+
+    Examples
+    --------
+    >>> from model import Cosmology
+    >>> om = density_parameters(Cosmology(h0=70.0, omega_m=0.3, t_cmb=0.0), 0.0)
+    >>> round(float(om["dark_energy"]), 12)
+    0.7
+    """
+    parts = _grouped(cosmo, z)
+    total = sum(parts.values())
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return {k: v / total for k, v in parts.items()}
+
+
+def densities(cosmo, z):
+    """Physical densities ρ_i(z) in kg m⁻³ and the critical density ``critical``.
+
+    The curvature entry is the equivalent density −3 k c²/(8π G a²) = Ω_k (1+z)² ρ_crit,0,
+    so that the entries other than ``critical`` sum to ρ_crit(z) = 3H²(z)/(8πG).
+    """
+    rho0 = const.critical_density(cosmo.h0)
+    parts = {k: v * rho0 for k, v in _grouped(cosmo, z).items()}
+    parts["critical"] = sum(parts.values())
+    return parts
+
+
+def w_dark_energy(cosmo, z):
+    """Dark-energy equation of state w(z) = w₀ + w_a z/(1+z) (Linder 2003, eq. 4)."""
+    z = _scale_factors(z)
+    return cosmo.w0 + cosmo.wa * z / (1.0 + z)
+
+
+def w_effective(cosmo, z):
+    """Equation of state of the whole content, w_tot = Σ p_i / Σ ρ_i (curvature excluded).
+
+    With p_i = w_i ρ_i: radiation 1/3, cold matter 0, massive neutrinos from their
+    Fermi–Dirac pressure, dark energy w(z). For a flat model this is (2q − 1)/3.
+    """
+    c = components(cosmo, _scale_factors(z))
+    rho = (c["photons"] + c["neutrinos_massless"] + c["neutrinos_massive"] + c["baryons"]
+           + c["cold_dark_matter"] + c["dark_energy"])
+    # pressure_weight = Σ (1 + 3w) ρ  ⇒  Σ p = (pressure_weight − Σ ρ)/3
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return (c["pressure_weight"] - rho) / (3.0 * rho)

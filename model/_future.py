@@ -1,0 +1,121 @@
+"""The far future of a model: eternal expansion, recollapse or a big rip.
+
+Cosmic time and conformal time beyond the integration grid (a > 110) and up to a
+turnaround are computed here with adaptive quadrature (QUADPACK via scipy.integrate.quad),
+once per cosmology.
+"""
+
+import math
+
+import numpy as np
+from scipy import integrate, optimize
+
+from ._background import hubble_squared
+from ._neutrinos import LOG_Y_MAX, fermi_dirac
+from ._tables import per_model
+
+__all__ = ["future", "scalar_e2"]
+
+_A_FAR = 1.0e12
+_NORM = 120.0 / (7.0 * math.pi**4)
+_A1, _A3 = 1.5 * 1.2020569031595942854, 11.25 * 1.0369277551433699263
+
+
+def scalar_e2(cosmo):
+    """A fast pure-Python E²(a), for quadrature at scale factors a ≥ 1."""
+    d = cosmo._derived
+    orad, onu1, ocb, ok, ode = d["omega_r"], d["omega_nu1"], d["omega_cb"], cosmo.omega_k, \
+        cosmo.omega_de
+    w0, wa = cosmo.w0, cosmo.wa
+    y0s = [float(y) for y in d["y0"]]
+    big = math.exp(LOG_Y_MAX)
+    lam = wa == 0.0 and w0 == -1.0
+
+    def e2(a):
+        inv = 1.0 / a
+        inv2 = inv * inv
+        val = orad * inv2 * inv2 + ocb * inv2 * inv + ok * inv2
+        for y0 in y0s:
+            y = y0 * a
+            if y > big:
+                f = _NORM * (_A1 * y + _A3 / y)
+            else:
+                f = float(fermi_dirac(np.array([y]))[0][0])
+            val += onu1 * inv2 * inv2 * f
+        if ode != 0.0:
+            if lam:
+                val += ode
+            else:
+                expo = -3.0 * (1.0 + w0 + wa) * math.log(a) - 3.0 * wa * (1.0 - a)
+                val += ode * math.exp(min(expo, 700.0))
+        return val
+
+    return e2
+
+
+class _Future:
+    """Fate, turnaround and the integrals from today to the end of time (units 1/H₀, c/H₀)."""
+
+    def __init__(self, cosmo):
+        self.fate = "eternal expansion"
+        self.a_max = None
+        self.dtau_to_end = None  # cosmic time from today to the turnaround / rip
+        self.deta_to_end = None  # conformal time from today to the turnaround, or to a = ∞
+        e2 = scalar_e2(cosmo)
+        self._e2 = e2
+        a = np.geomspace(1.0, _A_FAR, 2401)
+        with np.errstate(all="ignore"):
+            e2v = hubble_squared(cosmo, 1.0 / a - 1.0)
+        bad = ~(e2v > 0.0)
+        opts = dict(limit=200, epsabs=0.0, epsrel=1e-11)
+        if bad.any():
+            k = int(np.argmax(bad))
+            if k == 0:
+                self.a_max = 1.0
+            else:
+                self.a_max = optimize.brentq(e2, a[k - 1], a[k], xtol=1e-15, rtol=1e-15)
+            self.fate = "recollapse"
+            am = self.a_max
+            if am > 1.0:
+                # ∫ da / (a^p E) up to the turnaround, where E ∝ sqrt(a_max − a): with
+                # a = a_max − s² the integrand 2 s / (a^p E) is regular at s = 0.
+                def g(s_, p):
+                    a_ = am - s_ * s_
+                    v = e2(a_)
+                    return 2.0 * s_ / (a_**p * math.sqrt(v)) if v > 0 else 0.0
+
+                top = math.sqrt(am - 1.0)
+                self.dtau_to_end = integrate.quad(g, 0.0, top, args=(1,), **opts)[0]
+                self.deta_to_end = integrate.quad(g, 0.0, top, args=(2,), **opts)[0]
+            else:
+                self.dtau_to_end = self.deta_to_end = 0.0
+            return
+        phantom_end = cosmo.omega_de > 0.0 and (cosmo.wa > 0.0
+                                                 or (cosmo.wa == 0.0 and cosmo.w0 < -1.0))
+        accelerating_end = cosmo.omega_de > 0.0 and (
+            cosmo.wa > 0.0 or (cosmo.wa == 0.0 and cosmo.w0 < -1.0 / 3.0))
+
+        # Integrals over ln a from today to a = ∞; in every case handled here the integrand
+        # falls at least exponentially in ln a, so QUADPACK's infinite-range rule converges.
+        def in_log_a(power):
+            def f(v):
+                if v > 700.0:
+                    return 0.0
+                val = e2(math.exp(v))
+                if not (val > 0.0) or not math.isfinite(val):
+                    return 0.0
+                return math.exp(-power * v) / math.sqrt(val)
+
+            return integrate.quad(f, 0.0, math.inf, **opts)[0]
+
+        self.deta_to_end = in_log_a(1.0) if accelerating_end else math.inf
+        if phantom_end:
+            self.fate = "big rip"
+            self.dtau_to_end = in_log_a(0.0)
+
+    def e2(self, a):
+        return self._e2(a)
+
+
+future = per_model(_Future)
+future.__doc__ = "The far-future summary of a cosmology, cached by its physics."

@@ -1,0 +1,316 @@
+"""The cosmological model as an immutable, validated value object."""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass, field
+from typing import NamedTuple
+
+import numpy as np
+
+from . import _constants as const
+from ._errors import ParameterError
+from ._neutrinos import fermi_dirac
+
+__all__ = ["Cosmology", "ParameterSpec", "PARAMETERS", "MAX_NEUTRINO_SPECIES"]
+
+MAX_NEUTRINO_SPECIES = 3
+
+
+class ParameterSpec(NamedTuple):
+    """An input of :class:`Cosmology` and the range that validation accepts."""
+
+    name: str
+    symbol: str
+    unit: str
+    minimum: float
+    maximum: float
+    default: object
+    description: str
+    exclusive_minimum: bool = False
+
+    def expected(self):
+        """Text of the accepted range, e.g. ``'0 ≤ Ω_m ≤ 5'``."""
+        low = "<" if self.exclusive_minimum else "≤"
+        unit = f" {self.unit}" if self.unit else ""
+        return f"{_num(self.minimum)} {low} {self.symbol} ≤ {_num(self.maximum)}{unit}"
+
+
+def _num(x):
+    return f"{x:g}"
+
+
+PARAMETERS = (
+    ParameterSpec("h0", "H₀", "km/s/Mpc", 0.0, 1000.0, None, "Hubble constant today", True),
+    ParameterSpec("omega_m", "Ω_m", "", 0.0, 5.0, None,
+                  "all non-relativistic matter today, massive neutrinos included"),
+    ParameterSpec("omega_b", "Ω_b", "", 0.0, 5.0, None,
+                  "baryons today (default: 0.157 of the cold matter, the Planck 2018 fraction)"),
+    ParameterSpec("omega_k", "Ω_k", "", -5.0, 5.0, 0.0, "curvature today (0 is flat)"),
+    ParameterSpec("omega_de", "Ω_de", "", -5.0, 5.0, None,
+                  "dark energy today (alternative to Ω_k; closes the budget otherwise)"),
+    ParameterSpec("w0", "w₀", "", -5.0, 1.0, -1.0, "dark-energy equation of state today"),
+    ParameterSpec("wa", "w_a", "", -5.0, 5.0, 0.0, "its rate of change, w = w₀ + w_a (1 − a)"),
+    ParameterSpec("t_cmb", "T_CMB", "K", 0.0, 30.0, const.T_CMB_DEFAULT,
+                  "CMB temperature today (0 switches radiation off)"),
+    ParameterSpec("n_eff", "N_eff", "", 0.0, 10.0, const.N_EFF_DEFAULT,
+                  "effective number of neutrino species"),
+    ParameterSpec("m_nu", "m_ν", "eV", 0.0, 10.0, (0.06,),
+                  "neutrino masses, up to three (missing ones are massless)"),
+)
+_SPEC = {p.name: p for p in PARAMETERS}
+
+
+def _real(name, value):
+    spec = _SPEC[name]
+    if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
+        raise ParameterError(name, value, spec.expected(), f"{value!r} is not a number")
+    x = float(value)
+    if not math.isfinite(x):
+        raise ParameterError(name, value, spec.expected(), f"{x!r} is not a finite number")
+    too_low = x <= spec.minimum if spec.exclusive_minimum else x < spec.minimum
+    if too_low or x > spec.maximum:
+        raise ParameterError(name, value, spec.expected(), f"{x:g} is out of range")
+    return x
+
+
+def _masses(value):
+    spec = _SPEC["m_nu"]
+    expected = f"at most {MAX_NEUTRINO_SPECIES} masses, each 0 ≤ m_ν ≤ {spec.maximum:g} eV"
+    if isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(value, bool):
+        value = (value,)
+    try:
+        items = tuple(value)
+    except TypeError:
+        raise ParameterError("m_nu", value, expected, f"{value!r} is not a list of masses") from None
+    if len(items) > MAX_NEUTRINO_SPECIES:
+        raise ParameterError("m_nu", value, expected, f"{len(items)} masses given")
+    out = []
+    for m in items:
+        if isinstance(m, bool) or not isinstance(m, (int, float, np.integer, np.floating)):
+            raise ParameterError("m_nu", value, expected, f"{m!r} is not a number")
+        m = float(m)
+        if not math.isfinite(m) or m < 0.0 or m > spec.maximum:
+            raise ParameterError("m_nu", value, expected, f"mass {m!r} eV is out of range")
+        out.append(m)
+    return tuple(out)
+
+
+def _radiation(h0, t_cmb, n_eff):
+    """Ω_γ and Ω of one neutrino species if massless (N_eff/3 of the three), today."""
+    omega_gamma = const.photon_density(t_cmb) / const.critical_density(h0)
+    return omega_gamma, n_eff / 3.0 * const.NEUTRINO_PER_PHOTON * omega_gamma
+
+
+@dataclass(frozen=True, kw_only=True)
+class Cosmology:
+    """A Friedmann–Lemaître–Robertson–Walker model and its energy budget today.
+
+    Parameters
+    ----------
+    h0 : float
+        Hubble constant H₀ in km s⁻¹ Mpc⁻¹, ``0 < h0 ≤ 1000``.
+    omega_m : float
+        All non-relativistic matter today as a fraction of the critical density,
+        **including** the massive neutrinos' share (as published parameter tables quote it).
+    omega_b : float, optional
+        Baryons today. Default: 0.157 of the cold matter ``omega_m - omega_nu``, the baryon
+        fraction of Planck 2018 VI Table 2. Must not exceed the cold matter.
+    omega_k : float, optional
+        Curvature today, ``Ω_k = -k c² / (a₀ H₀)²``; 0 is flat, > 0 open, < 0 closed.
+    w0, wa : float, optional
+        Dark energy w(a) = w₀ + w_a (1 − a) (Chevallier & Polarski 2001; Linder 2003).
+    t_cmb : float, optional
+        CMB temperature today in K (Fixsen 2009); 0 switches photons and neutrinos off.
+    n_eff : float, optional
+        Effective number of neutrino species; each of the three carries N_eff/3 of the
+        massless density.
+    m_nu : sequence of float, optional
+        Neutrino masses in eV, 0 to 3 entries; missing entries and zeros are massless.
+    label : str, optional
+        A name for display; it does not take part in the physics.
+
+    Raises
+    ------
+    ParameterError
+        Naming the field and the accepted range.
+    NoBigBangError
+        If H² would vanish somewhere in the past (see :func:`model.evaluate`).
+
+    Notes
+    -----
+    Dark energy closes the budget, Ω_de = 1 − Ω_m − Ω_k − Ω_γ − Ω_ν,massless; use
+    :meth:`from_dark_energy` to give Ω_de and derive Ω_k instead.
+
+    Examples
+    --------
+    >>> c = Cosmology(h0=70.0, omega_m=0.3, t_cmb=0.0)
+    >>> round(c.omega_de, 12)
+    0.7
+    """
+
+    h0: float
+    omega_m: float
+    omega_b: float | None = None
+    omega_k: float = 0.0
+    w0: float = -1.0
+    wa: float = 0.0
+    t_cmb: float = const.T_CMB_DEFAULT
+    n_eff: float = const.N_EFF_DEFAULT
+    m_nu: tuple = (0.06,)
+    label: str = ""
+
+    _derived: dict = field(init=False, repr=False, compare=False, hash=False)
+
+    def __post_init__(self):
+        set_ = object.__setattr__
+        for name in ("h0", "omega_m", "omega_k", "w0", "wa", "t_cmb", "n_eff"):
+            set_(self, name, _real(name, getattr(self, name)))
+        set_(self, "m_nu", _masses(self.m_nu))
+        if not isinstance(self.label, str):
+            raise ParameterError("label", self.label, "a text label", "the label is not text")
+
+        omega_gamma, omega_nu1 = _radiation(self.h0, self.t_cmb, self.n_eff)
+        t_nu = const.NEUTRINO_TEMPERATURE_RATIO * self.t_cmb
+        massive = tuple(m for m in self.m_nu if m > 0.0)
+        if t_nu > 0.0 and omega_nu1 > 0.0 and massive:
+            y0 = np.array([m * const.ELECTRON_VOLT_J / (const.BOLTZMANN * t_nu) for m in massive])
+            omega_nu = float(omega_nu1 * np.sum(fermi_dirac(y0)[0]))
+        else:
+            y0, omega_nu, massive = np.zeros(0), 0.0, ()
+        n_massless = MAX_NEUTRINO_SPECIES - len(massive)
+        omega_nu_massless = n_massless * omega_nu1
+        omega_cb = self.omega_m - omega_nu
+        if omega_cb < 0.0:
+            raise ParameterError(
+                "omega_m", self.omega_m,
+                f"Ω_m ≥ Ω_ν = {omega_nu:.6g} (the massive neutrinos alone)",
+                f"{self.omega_m:g} is less than the massive neutrinos' share")
+        if self.omega_b is None:
+            set_(self, "omega_b", const.BARYON_FRACTION_DEFAULT * omega_cb)
+        else:
+            set_(self, "omega_b", _real("omega_b", self.omega_b))
+            if self.omega_b > self.omega_m:
+                raise ParameterError("omega_b", self.omega_b, f"0 ≤ Ω_b ≤ Ω_m = {self.omega_m:g}",
+                                     f"{self.omega_b:g} exceeds Ω_m")
+            if self.omega_b > omega_cb * (1 + 1e-12):
+                raise ParameterError(
+                    "omega_b", self.omega_b,
+                    f"0 ≤ Ω_b ≤ Ω_m − Ω_ν = {omega_cb:.6g}",
+                    f"{self.omega_b:g} leaves no room for the massive neutrinos")
+        omega_r = omega_gamma + omega_nu_massless
+        omega_de = 1.0 - self.omega_m - self.omega_k - omega_r
+        set_(self, "_derived", {
+            "omega_gamma": omega_gamma,
+            "omega_nu1": omega_nu1,
+            "omega_nu": omega_nu,
+            "omega_nu_massless": omega_nu_massless,
+            "omega_r": omega_r,
+            "omega_cb": omega_cb,
+            "omega_de": omega_de,
+            "y0": y0,
+            "masses": massive,
+        })
+        from ._background import check_big_bang  # late: the background needs a built object
+
+        check_big_bang(self)
+
+    # -- construction -------------------------------------------------------------------
+    @classmethod
+    def from_dark_energy(cls, *, omega_de, **kwargs):
+        """Build a model from Ω_de instead of Ω_k, which is then derived.
+
+        Ω_k = 1 − Ω_m − Ω_de − Ω_γ − Ω_ν,massless. Takes the same keywords as the class,
+        except ``omega_k``.
+
+        Examples
+        --------
+        >>> c = Cosmology.from_dark_energy(h0=70.0, omega_m=0.3, omega_de=0.8, t_cmb=0.0)
+        >>> round(c.omega_k, 12)
+        -0.1
+        """
+        if "omega_k" in kwargs:
+            raise ParameterError("omega_k", kwargs["omega_k"], "only one of Ω_k and Ω_de",
+                                 "Ω_k is derived when Ω_de is given")
+        omega_de = _real("omega_de", omega_de)
+        probe = dict(kwargs)
+        h0 = _real("h0", probe.get("h0"))
+        t_cmb = _real("t_cmb", probe.get("t_cmb", const.T_CMB_DEFAULT))
+        n_eff = _real("n_eff", probe.get("n_eff", const.N_EFF_DEFAULT))
+        masses = _masses(probe.get("m_nu", (0.06,)))
+        omega_gamma, omega_nu1 = _radiation(h0, t_cmb, n_eff)
+        n_massive = sum(1 for m in masses if m > 0.0) if t_cmb > 0.0 else 0
+        omega_r = omega_gamma + (MAX_NEUTRINO_SPECIES - n_massive) * omega_nu1
+        omega_m = _real("omega_m", probe.get("omega_m"))
+        omega_k = 1.0 - omega_m - omega_de - omega_r
+        if abs(omega_k) < 1e-15:
+            omega_k = 0.0
+        return cls(omega_k=omega_k, **kwargs)
+
+    def replace(self, **changes):
+        """A new, validated model with some inputs changed."""
+        return dataclasses.replace(self, **changes)
+
+    def to_dict(self):
+        """The inputs as a plain dict (floats, masses as a list)."""
+        out = {f.name: getattr(self, f.name) for f in dataclasses.fields(self) if f.init}
+        out["m_nu"] = list(self.m_nu)
+        return out
+
+    @property
+    def key(self):
+        """The physical content as a hashable tuple (label excluded; zero masses dropped)."""
+        return (self.h0, self.omega_m, self.omega_b, self.omega_k, self.w0, self.wa,
+                self.t_cmb, self.n_eff, tuple(sorted(self._derived["masses"])))
+
+    # -- derived quantities -------------------------------------------------------------
+    @property
+    def h(self):
+        """Dimensionless Hubble constant, H₀ / (100 km s⁻¹ Mpc⁻¹)."""
+        return self.h0 / 100.0
+
+    @property
+    def hubble_distance(self):
+        """Hubble distance c/H₀ in Mpc."""
+        return const.SPEED_OF_LIGHT_KM_S / self.h0
+
+    @property
+    def hubble_time(self):
+        """Hubble time 1/H₀ in Gyr."""
+        return const.MEGAPARSEC_KM / self.h0 / const.GIGAYEAR_S
+
+    @property
+    def omega_gamma(self):
+        """Photons today, from T_CMB: ρ_γ = (π²/15)(k_B T)⁴/(ħ³c⁵) over the critical density."""
+        return self._derived["omega_gamma"]
+
+    @property
+    def omega_nu(self):
+        """Massive neutrinos today (their whole energy density), part of Ω_m."""
+        return self._derived["omega_nu"]
+
+    @property
+    def omega_nu_massless(self):
+        """Massless neutrino species today."""
+        return self._derived["omega_nu_massless"]
+
+    @property
+    def omega_r(self):
+        """Radiation today: photons and massless neutrinos."""
+        return self._derived["omega_r"]
+
+    @property
+    def omega_cb(self):
+        """Cold matter today (baryons and cold dark matter), Ω_m − Ω_ν."""
+        return self._derived["omega_cb"]
+
+    @property
+    def omega_cdm(self):
+        """Cold dark matter today."""
+        return self._derived["omega_cb"] - self.omega_b
+
+    @property
+    def omega_de(self):
+        """Dark energy today, 1 − Ω_m − Ω_k − Ω_r (negative values are legitimate)."""
+        return self._derived["omega_de"]
