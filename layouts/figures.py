@@ -1,0 +1,155 @@
+"""Plotly figure dicts from plain figure specs (built by server.panels).
+
+A spec::
+
+    {"title": str, "x_title": str, "y_title": str, "x_log": bool, "y_log": bool,
+     "x_hover": "z", "y_hover": "D_L", "unit": "Mpc",
+     "series": [{"name", "slot", "x", "y", "colour"?, "dash"?, "group"?}],
+     "strip": {"y_title", "series": [...], "unit"} or None,
+     "markers": [{"x", "text", "slot"}]}
+
+Curves travel as little-endian float32 typed arrays (``{"dtype": "f4", "bdata": ...}``, which
+plotly.js reads natively): values are already rounded to 6 significant digits, which float32
+keeps, at 4 bytes a number instead of about 10 characters of JSON. Every piece of text that
+came from a user goes through `escape_for_figure` first.
+"""
+
+from __future__ import annotations
+
+import base64
+
+import numpy as np
+
+from layouts.palette import slot_colour, slot_dash
+from layouts.text import escape_for_figure
+
+__all__ = ["figure", "small_multiples", "typed_array"]
+
+FONT = {"family": "system-ui, -apple-system, 'Segoe UI', sans-serif", "size": 12}
+STRIP_SHARE = 0.28
+
+
+def typed_array(values) -> dict:
+    data = np.ascontiguousarray(np.asarray(values, dtype="<f4"))
+    return {"dtype": "f4", "bdata": base64.b64encode(data.tobytes()).decode("ascii")}
+
+
+def _trace(series: dict, spec: dict, yaxis: str, xaxis: str = "x", unit: str | None = None) -> dict:
+    slot = series.get("slot", 1)
+    name = escape_for_figure(series["name"])
+    unit = spec.get("unit", "") if unit is None else unit
+    unit_text = f" {unit}" if unit and unit != "1" else ""
+    return {
+        "type": "scatter",
+        "mode": "lines",
+        "x": typed_array(series["x"]),
+        "y": typed_array(series["y"]),
+        "name": name,
+        "legendgroup": series.get("group", f"slot{slot}"),
+        "showlegend": series.get("showlegend", yaxis == "y"),
+        "xaxis": xaxis,
+        "yaxis": yaxis,
+        "line": {"color": series.get("colour") or slot_colour(slot), "dash": series.get("dash") or slot_dash(slot),
+                 "width": series.get("width", 2)},
+        "hovertemplate": (f"{spec.get('x_hover', 'x')} = %{{x:.5g}}<br>"
+                          f"{series.get('y_hover', spec.get('y_hover', 'y'))} = %{{y:.6g}}{unit_text}"
+                          f"<extra>{name}</extra>"),
+    }
+
+
+def _axis(title: str, log: bool, **extra) -> dict:
+    return {"title": {"text": escape_for_figure(title)}, "type": "log" if log else "linear",
+            "showline": True, "mirror": True, "ticks": "outside", "exponentformat": "power",
+            "zeroline": False, **extra}
+
+
+def _annotation_x(x: float, log: bool) -> float:
+    # plotly places annotations on a log axis by log10 of the value (shapes take the value itself)
+    return float(np.log10(x)) if log and x > 0 else x
+
+
+def figure(spec: dict) -> dict:
+    """One plot over redshift (or another x), with an optional strip against the reference."""
+    strip = spec.get("strip")
+    data = [_trace(s, spec, "y") for s in spec["series"]]
+    layout = {
+        "title": {"text": escape_for_figure(spec.get("title", "")), "x": 0.01, "font": {"size": 14}},
+        "font": FONT,
+        "height": spec.get("height", 420 if strip else 340),
+        "margin": {"l": 70, "r": 20, "t": 40, "b": 50},
+        "hovermode": "closest",
+        "legend": {"orientation": "h", "y": -0.28 if not strip else -0.2, "x": 0},
+        "plot_bgcolor": "white",
+        "xaxis": _axis(spec.get("x_title", ""), spec.get("x_log", False), anchor="y2" if strip else "y"),
+        "yaxis": _axis(spec.get("y_title", ""), spec.get("y_log", False),
+                       domain=[STRIP_SHARE + 0.06, 1.0] if strip else [0.0, 1.0]),
+    }
+    if strip:
+        layout["yaxis2"] = _axis(strip["y_title"], False, domain=[0.0, STRIP_SHARE], anchor="x")
+        layout["xaxis"]["title"] = {"text": escape_for_figure(spec.get("x_title", ""))}
+        for s in strip["series"]:
+            trace = _trace(s, spec, "y2", unit=strip.get("unit", ""))
+            trace["showlegend"] = False
+            data.append(trace)
+    shapes, annotations = [], []
+    for marker in spec.get("markers", []):
+        shapes.append({"type": "line", "xref": "x", "yref": "paper", "x0": marker["x"], "x1": marker["x"],
+                       "y0": 0, "y1": 1, "line": {"color": slot_colour(marker.get("slot", 1)), "width": 1,
+                                                   "dash": "dot"}})
+        annotations.append({"x": _annotation_x(marker["x"], spec.get("x_log")), "xref": "x", "y": 1.0, "yref": "paper", "showarrow": False,
+                            "text": escape_for_figure(marker["text"]), "textangle": -90, "xanchor": "right",
+                            "yanchor": "top", "font": {"size": 10, "color": slot_colour(marker.get("slot", 1))}})
+    layout["shapes"] = shapes
+    layout["annotations"] = annotations
+    return {"data": data, "layout": layout}
+
+
+def small_multiples(spec: dict) -> dict:
+    """One small plot per model on shared axes (used for the energy budget).
+
+    ``spec["panels"]`` = ``[{"title", "slot", "series": [...]}]``; each series carries its own
+    colour and dash (colour = component) and `group` so that the legend lists each component once.
+    """
+    panels = spec["panels"]
+    n = max(len(panels), 1)
+    gap = 0.04
+    width = (1.0 - gap * (n - 1)) / n
+    data, annotations = [], []
+    layout = {
+        "font": FONT,
+        "height": spec.get("height", 360),
+        "margin": {"l": 70, "r": 20, "t": 50, "b": 80},
+        "plot_bgcolor": "white",
+        "hovermode": "closest",
+        "legend": {"orientation": "h", "y": -0.32, "x": 0},
+        "title": {"text": escape_for_figure(spec.get("title", "")), "x": 0.01, "font": {"size": 14}},
+    }
+    for i, panel in enumerate(panels):
+        suffix = "" if i == 0 else str(i + 1)
+        x0 = i * (width + gap)
+        layout[f"xaxis{suffix}"] = _axis(spec.get("x_title", ""), spec.get("x_log", False),
+                                         domain=[x0, x0 + width], anchor=f"y{suffix}",
+                                         **({"matches": "x"} if i else {}))
+        layout[f"yaxis{suffix}"] = _axis(spec.get("y_title", "") if i == 0 else "", spec.get("y_log", False),
+                                         anchor=f"x{suffix}", **({"matches": "y", "showticklabels": False}
+                                                                  if i else {}),
+                                         **({"range": spec["y_range"]} if "y_range" in spec else {}))
+        annotations.append({"text": escape_for_figure(panel["title"]), "x": x0 + width / 2, "xref": "paper",
+                            "y": 1.0, "yref": "paper", "yanchor": "bottom", "showarrow": False,
+                            "font": {"size": 12, "color": slot_colour(panel.get("slot", 1))}})
+        for s in panel["series"]:
+            trace = _trace({**s, "name": s["name"]}, spec, f"y{suffix}", xaxis=f"x{suffix}")
+            trace["showlegend"] = i == 0 and s.get("showlegend", True)
+            trace["hovertemplate"] = trace["hovertemplate"].replace(
+                "<extra>", "<extra>" + escape_for_figure(panel["title"]) + ": ")
+            data.append(trace)
+        for marker in panel.get("markers", []):
+            annotations.append({"x": _annotation_x(marker["x"], spec.get("x_log")), "y": 1.0,
+                                "xref": f"x{suffix}", "yref": "paper", "textangle": -90, "yanchor": "top",
+                                "text": escape_for_figure(marker["text"]), "showarrow": False,
+                                "xanchor": "right", "font": {"size": 9}})
+            layout.setdefault("shapes", []).append({
+                "type": "line", "xref": f"x{suffix}", "yref": "paper", "x0": marker["x"], "x1": marker["x"],
+                "y0": 0, "y1": 1, "line": {"color": "#888888", "width": 1, "dash": "dot"}})
+    layout["annotations"] = annotations
+    return {"data": data, "layout": layout}

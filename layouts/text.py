@@ -1,0 +1,34 @@
+"""Text formatting shared by cards, tables and figures."""
+
+from __future__ import annotations
+
+import math
+
+
+def escape_for_figure(text: str) -> str:
+    """Plotly reads legend, hover and annotation text as a subset of HTML (links included):
+    escape it so a label is shown as the characters typed."""
+    return str(text).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+
+
+def number(value, digits: int = 6) -> str:
+    """`digits` significant digits; an en dash for missing values."""
+    if value is None:
+        return "–"
+    try:
+        x = float(value)
+    except (TypeError, ValueError):
+        return str(value)
+    if math.isnan(x):
+        return "–"
+    if math.isinf(x):
+        return "∞" if x > 0 else "−∞"
+    return f"{x:.{digits}g}".replace("-", "−")
+
+
+def with_unit(value, unit: str, digits: int = 6) -> str:
+    """``13.797 Gyr``; dimensionless units (``""`` or ``"1"``) add nothing."""
+    text = number(value, digits)
+    if text in ("–",) or not unit or unit == "1":
+        return text
+    return f"{text} {unit}"

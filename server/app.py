@@ -1,0 +1,52 @@
+"""The app factory. Nothing binds to an app at import time."""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+import dash
+from flask import Flask
+
+from server.cache import cache, code_fingerprint
+from server.config import ENV_PREFIX, default_config, normalise_prefix
+
+__all__ = ["create_app"]
+
+ASSETS = Path(__file__).resolve().parent.parent / "layouts" / "assets"
+
+
+def create_app(config: dict | None = None) -> dash.Dash:
+    """Build the Dash app (its Flask server is ``app.server``).
+
+    Configuration order: `server.config.default_config`, then ``FDESK_*`` environment
+    variables, then `config`. ``URL_PREFIX`` serves the page, the API and ``/healthz`` under a
+    path such as ``/cosmo/``.
+    """
+    flask_app = Flask("server")
+    flask_app.config.update(default_config())
+    flask_app.config.from_prefixed_env(ENV_PREFIX)
+    flask_app.config.update(config or {})
+    prefix = normalise_prefix(flask_app.config["URL_PREFIX"])
+    flask_app.config["URL_PREFIX"] = prefix
+    flask_app.config.setdefault("CACHE_KEY_PREFIX", f"fdesk-{code_fingerprint()}-")
+    if flask_app.config["CACHE_TYPE"] in ("FileSystemCache", "flask_caching.backends.FileSystemCache"):
+        os.makedirs(flask_app.config["CACHE_DIR"], exist_ok=True)
+    cache.init_app(flask_app)
+
+    from server import api, callbacks  # deferred: they import the model
+    from layouts.page import page
+
+    flask_app.register_blueprint(api.make_blueprint(), url_prefix=prefix.rstrip("/") or None)
+    app = dash.Dash(
+        "server",
+        server=flask_app,
+        url_base_pathname=prefix,
+        assets_folder=str(ASSETS),
+        title="Friedmann Desk",
+        update_title=None,
+        suppress_callback_exceptions=True,
+    )
+    app.layout = page(callbacks.page_options())
+    callbacks.register(app)
+    return app

@@ -1,0 +1,225 @@
+"""Model results for the page and the API, memoized per model by its canonical parameters.
+
+Editing one card changes one model's cache key only, so only that model is recomputed. Curves
+carry `GRID_POINTS` points rounded to `SIGNIFICANT_DIGITS` digits to keep responses small;
+the API's values at the link's redshifts are not rounded (they equal `model.evaluate`).
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+import model
+from server import codec
+from server.cache import cache
+
+__all__ = [
+    "GRID_POINTS", "SIGNIFICANT_DIGITS", "A_MIN", "A_MAX", "Resolved", "resolve", "resolve_all",
+    "model_curves", "values_at", "round_significant", "json_ready", "survey_volume", "inverse_lookup",
+    "cosmology_for",
+]
+
+GRID_POINTS = 400
+SIGNIFICANT_DIGITS = 6
+A_MIN, A_MAX = 1e-7, 10.0  # energy budget from deep in the radiation era into the future
+
+_URL_KEY_OF = {name: key for key, name in codec.MODEL_KEYS}
+
+
+@dataclass(frozen=True)
+class Resolved:
+    """A model slot after validation: the Cosmology, or the problem that stopped it."""
+
+    state: codec.ModelState
+    cosmology: model.Cosmology | None
+    problem: codec.Problem | None
+
+    @property
+    def key(self) -> str:
+        return codec.model_cache_key(self.state)
+
+
+def _build(kwargs: dict, label: str = "") -> model.Cosmology:
+    kwargs = dict(kwargs)
+    if "omega_de" in kwargs:
+        omega_de = kwargs.pop("omega_de")
+        kwargs.pop("omega_k", None)
+        return model.Cosmology.from_dark_energy(omega_de=omega_de, label=label, **kwargs)
+    return model.Cosmology(label=label, **kwargs)
+
+
+def resolve(state: codec.ModelState) -> Resolved:
+    """Validate one slot with the model. A value the link could not read is its own problem and
+    comes first; the model's `ParameterError` names its field, `NoBigBangError` the slot."""
+    own = state.problems()
+    if own:
+        return Resolved(state, None, own[0])
+    prefix = f"m{state.slot}"
+    try:
+        cosmo = _build(state.physical(), label=state.label)
+    except model.ParameterError as err:
+        key = f"{prefix}.{_URL_KEY_OF.get(err.field, err.field)}"
+        return Resolved(state, None, codec.Problem(key, f"{key}: {_value_text(err.value)} is not accepted; "
+                                                        f"expected {err.expected}"))
+    except model.NoBigBangError as err:
+        return Resolved(state, None, codec.Problem(prefix, f"{prefix}: no big bang: {err}"))
+    except (model.ModelError, ValueError, TypeError) as err:
+        return Resolved(state, None, codec.Problem(prefix, f"{prefix}: {err}"))
+    return Resolved(state, cosmo, None)
+
+
+def _value_text(value) -> str:
+    if isinstance(value, (tuple, list)):
+        return ",".join(_value_text(v) for v in value)
+    try:
+        return codec.format_number(float(value))
+    except (TypeError, ValueError):
+        return repr(value)
+
+
+def resolve_all(state: codec.LinkState) -> list[Resolved]:
+    return [resolve(m) for m in state.models]
+
+
+@functools.lru_cache(maxsize=64)
+def cosmology_for(key: str) -> model.Cosmology:
+    """The Cosmology for a canonical model key (`codec.model_cache_key`)."""
+    query = "&".join(f"m1.{pair}" for pair in key.split("&") if pair)
+    return _build(codec.decode(query or "m1.label=").models[0].physical())
+
+
+def round_significant(values, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
+    """Round to `digits` significant digits, landing on the nearest double of the short decimal
+    (so its shortest repr is at most `digits` digits). Non-finite values pass through."""
+    x = np.asarray(values, dtype=float)
+    out = x.copy()
+    finite = np.isfinite(x) & (x != 0)
+    if not finite.any():
+        return out
+    v = x[finite]
+    power = digits - 1 - np.floor(np.log10(np.abs(v))).astype(int)
+    small = power >= 0  # divide by an exact power of ten
+    r = np.empty_like(v)
+    r[small] = np.round(v[small] * 10.0 ** power[small]) / 10.0 ** power[small]
+    big = ~small  # multiply by an exact power of ten
+    r[big] = np.round(v[big] / 10.0 ** (-power[big])) * 10.0 ** (-power[big])
+    out[finite] = r
+    return out
+
+
+def json_ready(value):
+    """Plain JSON types: arrays to lists, NaN and infinities to None, numpy scalars to floats."""
+    if isinstance(value, dict):
+        return {k: json_ready(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple, np.ndarray)):
+        return [json_ready(v) for v in np.asarray(value, dtype=object).tolist()] if isinstance(
+            value, np.ndarray) else [json_ready(v) for v in value]
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)) and not isinstance(value, bool):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        value = float(value)
+        return value if math.isfinite(value) else None
+    return value
+
+
+def _resolved_parameters(cosmo: model.Cosmology) -> dict:
+    baryons = cosmo.omega_b if cosmo.omega_b is not None else cosmo.omega_cb - cosmo.omega_cdm
+    return {
+        "h0": cosmo.h0, "omega_m": cosmo.omega_m, "omega_b": baryons, "omega_k": cosmo.omega_k,
+        "omega_de": cosmo.omega_de, "w0": cosmo.w0, "wa": cosmo.wa, "t_cmb": cosmo.t_cmb,
+        "n_eff": cosmo.n_eff, "m_nu": list(cosmo.m_nu), "omega_r": cosmo.omega_r,
+        "omega_gamma": cosmo.omega_gamma, "omega_nu": cosmo.omega_nu,
+        "omega_nu_massless": cosmo.omega_nu_massless, "omega_cdm": cosmo.omega_cdm,
+        "omega_cb": cosmo.omega_cb, "hubble_distance": cosmo.hubble_distance,
+        "hubble_time": cosmo.hubble_time,
+    }
+
+
+def _plain(mapping: dict) -> dict:
+    out = {}
+    for k, v in mapping.items():
+        if isinstance(v, (float, np.floating)):
+            v = float(v)
+            out[k] = v if math.isfinite(v) else None
+        else:
+            out[k] = v
+    return out
+
+
+def redshift_grid(zmax: float, n: int = GRID_POINTS) -> np.ndarray:
+    """0..zmax, uniform in ln(1 + z): fine near z = 0 and still reaching far redshifts."""
+    return np.expm1(np.linspace(0.0, math.log1p(zmax), n))
+
+
+def _budget(cosmo: model.Cosmology) -> dict:
+    a = np.geomspace(A_MIN, A_MAX, GRID_POINTS)
+    z = 1.0 / a - 1.0
+    with np.errstate(all="ignore"):
+        fractions = model.density_parameters(cosmo, z)
+        rho = model.densities(cosmo, z)
+    return {"a": a, "omega": fractions, "rho": rho}
+
+
+@cache.memoize()
+def model_curves(key: str, zmax: float) -> dict:
+    """Everything the six panels draw for one model (rounded numpy arrays and plain dicts)."""
+    cosmo = cosmology_for(key)
+    z = redshift_grid(zmax)
+    with np.errstate(all="ignore"):
+        at = model.evaluate(cosmo, z)
+        w = model.w_dark_energy(cosmo, z)
+        history = model.scale_factor_history(cosmo, a_end=A_MAX, n=GRID_POINTS)
+        acoustic = model.acoustic_scales(cosmo)
+        r_drag = acoustic["r_drag"]
+        bao = {
+            "dm_rd": at["transverse_comoving_distance"] / r_drag,
+            "dh_rd": at["hubble_distance_at_z"] / r_drag,
+            "dv_rd": at["volume_averaged_distance"] / r_drag,
+        }
+    budget = _budget(cosmo)
+    rnd = round_significant
+    return {
+        "params": _plain(_resolved_parameters(cosmo)),
+        "epochs": _plain(model.epochs(cosmo)),
+        "acoustic": _plain(acoustic),
+        "z": rnd(z),
+        "at": {k: rnd(v) for k, v in at.items()},
+        "w": rnd(w),
+        "history": {k: rnd(v) for k, v in history.items()},
+        "bao": {k: rnd(v) for k, v in bao.items()},
+        "a": rnd(budget["a"]),
+        "omega": {k: rnd(v) for k, v in budget["omega"].items()},
+        "rho": {k: rnd(v) for k, v in budget["rho"].items()},
+    }
+
+
+@cache.memoize()
+def values_at(key: str, redshifts: tuple[float, ...]) -> dict:
+    """`model.evaluate` at the link's redshifts, unrounded, as numpy arrays."""
+    with np.errstate(all="ignore"):
+        return {k: np.asarray(v, dtype=float) for k, v in
+                model.evaluate(cosmology_for(key), np.asarray(redshifts, dtype=float)).items()}
+
+
+def survey_volume(key: str, sky_deg2: float, z_low: float, z_high: float) -> float:
+    """Comoving volume [Gpc³] of a survey of `sky_deg2` square degrees between two redshifts:
+    the all-sky shell (Hogg 1999, §9) times the sky fraction."""
+    with np.errstate(all="ignore"):
+        v = model.evaluate(cosmology_for(key), np.array([z_low, z_high]))["comoving_volume"]
+    return float((v[1] - v[0]) * sky_deg2 / codec.FULL_SKY_DEG2)
+
+
+def inverse_lookup(key: str, quantity: str, value: float) -> float | None:
+    """The redshift at which `quantity` takes `value`, or None where there is none."""
+    try:
+        with np.errstate(all="ignore"):
+            z = float(np.asarray(model.redshift_at(cosmology_for(key), quantity, np.array([value]))).ravel()[0])
+    except (model.ModelError, ValueError):
+        return None
+    return z if math.isfinite(z) else None
