@@ -155,6 +155,13 @@ def _whiten(data, x):
     return linalg.solve_triangular(data.cholesky, x.T, lower=True, check_finite=False).T
 
 
+def _row_dot(a, b):
+    """Inner products row by row of arrays of shape (P, N) or (N,) (broadcast to (P,))."""
+    if a.ndim == 1 or b.ndim == 1:
+        return (b @ a) if a.ndim == 1 else (a @ b)
+    return np.einsum("pn,pn->p", a, b)
+
+
 def profile_nuisances(data, base, bao, r_d, offset):
     """chi^2 of P parameter sets with the free linear nuisances minimised in closed form.
 
@@ -197,7 +204,7 @@ def profile_nuisances(data, base, bao, r_d, offset):
         prediction[:, acoustic] += bao[:, acoustic] / r_d[:, None]
     if offset is None:
         if supernova.any():
-            columns.append(np.broadcast_to(supernova.astype(float), base.shape))
+            columns.append(supernova.astype(float))  # the same for every set: shape (N,)
             names.append("offset")
     else:
         offset = np.broadcast_to(np.asarray(offset, dtype=float), (n_sets,))
@@ -206,18 +213,23 @@ def profile_nuisances(data, base, bao, r_d, offset):
     whitened = _whiten(data, data.value - prediction)
     fitted = {}
     if columns:
-        design = np.stack([_whiten(data, c) for c in columns], axis=-1)  # (P, N, k)
-        normal = np.einsum("pnk,pnl->pkl", design, design)
-        rhs = np.einsum("pnk,pn->pk", design, whitened)
+        design = [_whiten(data, c) for c in columns]
+        k = len(design)
+        normal = np.empty((n_sets, k, k))
+        rhs = np.empty((n_sets, k))
+        for i in range(k):
+            rhs[:, i] = _row_dot(design[i], whitened)
+            for j in range(i + 1):
+                normal[:, i, j] = normal[:, j, i] = _row_dot(design[i], design[j])
         with np.errstate(invalid="ignore"):
             finite = np.isfinite(normal).all(axis=(1, 2)) & np.isfinite(rhs).all(axis=1)
         theta = np.full(rhs.shape, np.nan)
         if finite.any():
             theta[finite] = np.linalg.solve(normal[finite], rhs[finite][..., None])[..., 0]
-        whitened = whitened - np.einsum("pnk,pk->pn", design, theta)
-        for k, (name, column) in enumerate(zip(names, columns)):
-            prediction = prediction + theta[:, k, None] * column
-            fitted[name] = theta[:, k]
+        for i, (name, column) in enumerate(zip(names, columns)):
+            whitened -= theta[:, i, None] * design[i]
+            prediction += theta[:, i, None] * column
+            fitted[name] = theta[:, i]
     nan = np.full(n_sets, np.nan)
     if "inverse_r_d" in fitted:
         with np.errstate(divide="ignore"):
