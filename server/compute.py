@@ -67,8 +67,8 @@ def resolve(state: codec.ModelState) -> Resolved:
                                                         f"expected {err.expected}"))
     except model.NoBigBangError as err:
         return Resolved(state, None, codec.Problem(prefix, f"{prefix}: no big bang: {err}"))
-    except (model.ModelError, ValueError, TypeError) as err:
-        return Resolved(state, None, codec.Problem(prefix, f"{prefix}: {err}"))
+    except Exception as err:  # noqa: BLE001 - any other failure is this model's problem, not a 500
+        return Resolved(state, None, codec.Problem(prefix, f"{prefix}: this model cannot be built ({err!r})"))
     return Resolved(state, cosmo, None)
 
 
