@@ -15,7 +15,7 @@ from scipy import optimize
 from ._errors import NoBigBangError
 from ._neutrinos import fermi_dirac
 
-__all__ = ["components", "hubble_squared", "check_big_bang", "dark_energy_factor"]
+__all__ = ["components", "components_x", "hubble_squared", "hubble_squared_x", "check_big_bang", "dark_energy_factor"]
 
 
 def dark_energy_factor(cosmo, x, u=None):
@@ -46,13 +46,21 @@ def neutrino_terms(cosmo, x):
 def components(cosmo, z):
     """Each component's density over the critical density today, ρ_i(z)/ρ_crit,0.
 
+    See :func:`components_x`, which takes x = 1 + z = 1/a directly (precise for a ≫ 1).
+    """
+    return components_x(cosmo, 1.0 + np.asarray(z, dtype=float))
+
+
+def components_x(cosmo, x):
+    """Each component's density over the critical density today, at x = 1 + z = 1/a.
+
     Returns a dict with photons, neutrinos_massless, neutrinos_massive, baryons,
     cold_dark_matter, dark_energy and curvature (the last is Ω_k (1+z)², not a density),
     and ``pressure_weight``: Σ (1 + 3 w_i) ρ_i / ρ_crit,0 over the real components, so that
     q = pressure_weight / (2 E²) (Friedmann's acceleration equation).
     """
     d = cosmo._derived
-    x = 1.0 + np.asarray(z, dtype=float)
+    x = np.asarray(x, dtype=float)
     x2 = x * x
     x3 = x2 * x
     x4 = x2 * x2
@@ -78,38 +86,40 @@ def components(cosmo, z):
 
 def hubble_squared(cosmo, z):
     """E²(z) = H²(z)/H₀² = Σ_i ρ_i(z)/ρ_crit,0 + Ω_k (1 + z)² (Friedmann's equation)."""
-    c = components(cosmo, z)
+    return hubble_squared_x(cosmo, 1.0 + np.asarray(z, dtype=float))
+
+
+def hubble_squared_x(cosmo, x):
+    """E² at x = 1 + z = 1/a."""
+    c = components_x(cosmo, x)
     with np.errstate(invalid="ignore"):
         return (c["photons"] + c["neutrinos_massless"] + c["neutrinos_massive"] + c["baryons"]
                 + c["cold_dark_matter"] + c["dark_energy"] + c["curvature"])
 
 
 def _e2_of_u(cosmo, u):
-    return hubble_squared(cosmo, np.expm1(u))
+    return hubble_squared_x(cosmo, np.exp(u))
 
 
-def check_big_bang(cosmo):
-    """Raise :class:`NoBigBangError` if E² ≤ 0 anywhere between today and z ~ 1e11.
+def check_big_bang(cosmo, u, e2):
+    """Raise :class:`NoBigBangError` if E² ≤ 0 at any of the past points ``u = ln(1+z) ≥ 0``.
 
     A model whose H² vanishes in the past would have turned around (bounced) at that
-    redshift instead of starting from a big bang; the distance integrals do not exist for it.
+    redshift instead of starting from a big bang; the distance integrals do not exist for
+    it. ``u`` and ``e2`` are the sample points and values of the model's integration grid.
     """
-    u = np.linspace(0.0, 25.0, 3201)
-    e2 = _e2_of_u(cosmo, u)
-    bad = ~(e2 > 0.0)
+    bad = (u > 0.0) & ~(e2 > 0.0)
     if not bad.any():
         return
-    k = int(np.argmax(bad))
-    if k == 0:
-        z_turn = 0.0
-    else:
-        lo, hi = u[k - 1], u[k]
-        try:
-            root = optimize.brentq(lambda v: float(_e2_of_u(cosmo, np.array([v]))[0]), lo, hi,
-                                   xtol=1e-14)
-        except ValueError:
-            root = hi
-        z_turn = math.expm1(root)
+    u_bad = float(u[bad].min())
+    earlier = u[(u >= 0.0) & (u < u_bad)]
+    lo = float(earlier.max()) if earlier.size else 0.0
+    try:
+        root = optimize.brentq(lambda v: float(_e2_of_u(cosmo, np.array([v]))[0]), lo, u_bad,
+                               xtol=1e-14)
+    except ValueError:
+        root = u_bad
+    z_turn = math.expm1(root)
     raise NoBigBangError(
         z_turn,
         f"no big bang: going back in time, H² would fall to zero at z = {z_turn:.6g}, where "

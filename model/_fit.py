@@ -260,23 +260,24 @@ class _Problem:
         self.batch = DistanceBatch(base, data.z)
         self.needs_r_d = bool(np.isin(data.kind, BAO_KINDS).any())
         self.needs_offset = bool(np.any(data.kind == SUPERNOVA_KIND))
-        self._r_d_cache = {}
 
     def model_r_d(self, sets, n_sets):
-        """r_drag of acoustic_scales for each set [Mpc] (one model built per distinct set)."""
-        columns = [np.broadcast_to(sets.get(n, getattr(self.base, n)), n_sets).tolist()
-                   for n in COSMOLOGICAL]
-        acoustic_scales = _public().acoustic_scales
-        out = np.empty(n_sets)
-        for i, key in enumerate(zip(*columns)):
-            if key not in self._r_d_cache:
-                try:
-                    model = self.base.replace(**dict(zip(COSMOLOGICAL, key)))
-                    self._r_d_cache[key] = float(acoustic_scales(model)["r_drag"])
-                except ModelError:
-                    self._r_d_cache[key] = math.nan
-            out[i] = self._r_d_cache[key]
-        return out
+        """r_drag of each set as ``acoustic_scales`` gives it [Mpc], vectorised.
+
+        The calibrated formula (``model.r_drag_fit``; Aubourg et al. 2015, PRD 92, 123516,
+        eq. 16) depends on the sets only through h0 and omega_m (omega_b stays the base
+        model's, as ``Cosmology.replace`` keeps it). NaN where acoustic_scales has no value
+        (no photons or no baryons) or Cosmology would refuse the set (omega_b > omega_cb).
+        """
+        h2 = (np.broadcast_to(sets.get("h0", self.base.h0), n_sets) / 100.0) ** 2
+        omega_m = np.broadcast_to(sets.get("omega_m", self.base.omega_m), n_sets)
+        omega_nu_h2 = self.base.omega_nu * self.base.h**2
+        omega_cb_h2 = omega_m * h2 - omega_nu_h2
+        omega_b_h2 = self.base.omega_b * h2
+        valid = (self.base.omega_gamma > 0.0) & (omega_b_h2 > 0.0) & (omega_cb_h2 >= omega_b_h2)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            r_d = _public().r_drag_fit(np.where(valid, omega_cb_h2, 1.0), omega_b_h2, omega_nu_h2)
+        return np.where(valid, r_d, np.nan)
 
     def score(self, sets):
         """:func:`profile_nuisances` output for parameter sets given as a dict of arrays.
@@ -614,8 +615,6 @@ def chi2_map(cosmo, data, x_name, x_values, y_name, y_values, nuisances=Nuisance
     the other cosmological parameters are held fixed, not minimised over. The
     68 % and 95 % joint regions of two parameters are delta chi^2 < 2.30 and
     6.18 (common practice, no source).
-    With ``nuisances.r_d == "model"`` one model is built per grid node for its
-    sound horizon, which is much slower than the distances; ``"free"`` avoids it.
     """
     if x_name == y_name:
         raise FitError(f"the two map parameters must differ, both are {x_name!r}")

@@ -10,9 +10,9 @@ import math
 import numpy as np
 from scipy import integrate, optimize
 
-from ._background import hubble_squared
+from ._background import hubble_squared_x
 from ._neutrinos import LOG_Y_MAX, fermi_dirac
-from ._tables import per_model
+from ._tables import U_MIN, per_model, tables
 
 __all__ = ["future", "scalar_e2"]
 
@@ -63,9 +63,13 @@ class _Future:
         self.deta_to_end = None  # conformal time from today to the turnaround, or to a = ∞
         e2 = scalar_e2(cosmo)
         self._e2 = e2
-        a = np.geomspace(1.0, _A_FAR, 2401)
+        tab = tables(cosmo)
+        a_edge = math.exp(-U_MIN)
+        a = np.concatenate([np.exp(-tab.u[tab.u <= 0.0][::-1]),
+                            np.geomspace(a_edge, _A_FAR, 601)[1:]])
         with np.errstate(all="ignore"):
-            e2v = hubble_squared(cosmo, 1.0 / a - 1.0)
+            e2v = np.concatenate([tab.e2[tab.u <= 0.0][::-1],
+                                  hubble_squared_x(cosmo, 1.0 / a[a > a_edge])])
         bad = ~(e2v > 0.0)
         opts = dict(limit=200, epsabs=0.0, epsrel=1e-11)
         if bad.any():
@@ -95,26 +99,54 @@ class _Future:
         accelerating_end = cosmo.omega_de > 0.0 and (
             cosmo.wa > 0.0 or (cosmo.wa == 0.0 and cosmo.w0 < -1.0 / 3.0))
 
-        # Integrals over ln a from today to a = ∞; in every case handled here the integrand
-        # falls at least exponentially in ln a, so QUADPACK's infinite-range rule converges.
-        def in_log_a(power):
-            def f(v):
-                if v > 700.0:
-                    return 0.0
-                val = e2(math.exp(v))
-                if not (val > 0.0) or not math.isfinite(val):
-                    return 0.0
-                return math.exp(-power * v) / math.sqrt(val)
-
-            return integrate.quad(f, 0.0, math.inf, **opts)[0]
-
-        self.deta_to_end = in_log_a(1.0) if accelerating_end else math.inf
-        if phantom_end:
-            self.fate = "big rip"
-            self.dtau_to_end = in_log_a(0.0)
+        if accelerating_end or phantom_end:
+            dtau, deta = _to_infinity(cosmo)
+            dtau -= tab.values["tau"][0]  # the grid's share, from today to a = e^{-U_MIN}
+            deta -= tab.values["chi"][0]
+            self.deta_to_end = deta if accelerating_end else math.inf
+            if phantom_end:
+                self.fate = "big rip"
+                self.dtau_to_end = dtau
+        else:
+            self.deta_to_end = math.inf
 
     def e2(self, a):
         return self._e2(a)
+
+
+_V_END = 50.0
+_V_STEP = 1.0 / 8.0
+_GL_X, _GL_W = np.polynomial.legendre.leggauss(6)
+
+
+def _to_infinity(cosmo):
+    """∫ da/(a E) and ∫ da/(a² E) from the grid's edge a = e^{-U_MIN} to a = ∞.
+
+    Composite 6-point Gauss–Legendre in v = ln a up to v = 50, then the tail of the local
+    power law E ∝ a^s beyond (by then the slowest-falling component dominates alone).
+    """
+    v0 = -U_MIN
+    n_int = int(math.ceil((_V_END - v0) / _V_STEP))
+    step = (_V_END - v0) / n_int
+    mid = v0 + step * (np.arange(n_int) + 0.5)
+    v = (mid[:, None] + 0.5 * step * _GL_X[None, :]).ravel()
+    w = np.tile(0.5 * step * _GL_W, n_int)
+    n = v.size
+    v_all = np.concatenate([v, [_V_END - 1e-3, _V_END]])
+    with np.errstate(all="ignore"):
+        e2 = hubble_squared_x(cosmo, np.exp(-v_all))
+        e = np.sqrt(np.where(e2 > 0.0, e2, np.nan))
+        inv_e = np.where(np.isfinite(e), 1.0 / e, 0.0)
+    dtau = float(np.sum(w * inv_e[:n]))
+    deta = float(np.sum(w * np.exp(-v) * inv_e[:n]))
+    e_a, e_b = e[n], e[n + 1]
+    if np.isfinite(e_a) and np.isfinite(e_b) and e_b > 0:
+        slope = (math.log(e_b) - math.log(e_a)) / 1e-3  # d ln E / d ln a
+        # Beyond v_end, E = E_b e^{slope (v - v_end)}: ∫ dv/E converges for slope > 0 (a
+        # phantom), ∫ e^{-v} dv/E for slope > -1 (acceleration).
+        dtau = dtau + 1.0 / (slope * e_b) if slope > 0 else math.inf
+        deta = deta + math.exp(-_V_END) / ((1.0 + slope) * e_b) if slope > -1 else math.inf
+    return dtau, deta
 
 
 future = per_model(_Future)

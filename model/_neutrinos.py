@@ -58,16 +58,27 @@ def _table():
     return log_y, f, g, dg
 
 
-def _hermite(s, v0, d0, v1, d1, step):
-    t = s
-    t2 = t * t
-    t3 = t2 * t
-    return (
-        (2 * t3 - 3 * t2 + 1) * v0
-        + (t3 - 2 * t2 + t) * step * d0
-        + (-2 * t3 + 3 * t2) * v1
-        + (t3 - t2) * step * d1
-    )
+@functools.cache
+def _coefficients():
+    """Cubic coefficients per interval of F and of g = dF/d ln y (Hermite, see fermi_dirac)."""
+    _, f, g, dg = _table()
+    out = []
+    for v, dv in ((f, g), (g, dg)):
+        f0, f1, d0, d1 = v[:-1], v[1:], _STEP * dv[:-1], _STEP * dv[1:]
+        out.append((f0, d0, 3.0 * (f1 - f0) - 2.0 * d0 - d1, 2.0 * (f0 - f1) + d0 + d1))
+    return out
+
+
+def _horner(coef, i, t):
+    c0, c1, c2, c3 = coef
+    out = np.take(c3, i)
+    out *= t
+    out += np.take(c2, i)
+    out *= t
+    out += np.take(c1, i)
+    out *= t
+    out += np.take(c0, i)
+    return out
 
 
 def fermi_dirac(y):
@@ -106,24 +117,26 @@ def fermi_dirac(y):
     1.0
     """
     y = np.asarray(y, dtype=float)
-    log_y_tab, f_tab, g_tab, dg_tab = _table()
+    log_y_tab, _, _, dg_tab = _table()
+    f_coef, g_coef = _coefficients()
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         log_y = np.log(y)
-        s = (np.clip(log_y, LOG_Y_MIN, LOG_Y_MAX - 1e-12) - LOG_Y_MIN) / _STEP
-        i = np.minimum(s.astype(np.intp), len(log_y_tab) - 2)
+        s = (log_y - LOG_Y_MIN) * (1.0 / _STEP)
+        np.clip(s, 0.0, len(log_y_tab) - 1.0 - 1e-9, out=s)
+        i = s.astype(np.intp)
         t = s - i
-        f = _hermite(t, f_tab[i], g_tab[i], f_tab[i + 1], g_tab[i + 1], _STEP)
-        g = _hermite(t, g_tab[i], dg_tab[i], g_tab[i + 1], dg_tab[i + 1], _STEP)
+        f = _horner(f_coef, i, t)
+        g = _horner(g_coef, i, t)
         dg = np.interp(log_y, log_y_tab, dg_tab)
         small = log_y < LOG_Y_MIN
-        if np.any(small):
+        if small.any():
             ys = y[small]
             c = 5.0 / (7.0 * math.pi**2)
             f[small] = 1.0 + c * ys**2
             g[small] = 2.0 * c * ys**2
             dg[small] = 4.0 * c * ys**2
         large = log_y > LOG_Y_MAX
-        if np.any(large):
+        if large.any():
             yl = y[large]
             a1, a3, a5 = 1.5 * _ZETA3, 11.25 * _ZETA5, -88.59375 * _ZETA7
             f[large] = _NORM * (a1 * yl + a3 / yl + a5 / yl**3)

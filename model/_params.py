@@ -212,9 +212,9 @@ class Cosmology:
             "y0": y0,
             "masses": massive,
         })
-        from ._background import check_big_bang  # late: the background needs a built object
+        from ._tables import tables  # late: the tables need a built object
 
-        check_big_bang(self)
+        tables(self)  # integrates the model once (cached) and raises NoBigBangError if needed
 
     # -- construction -------------------------------------------------------------------
     @classmethod

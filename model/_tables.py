@@ -22,7 +22,7 @@ import functools
 import math
 
 import numpy as np
-from ._background import components
+from ._background import check_big_bang, components_x
 
 __all__ = ["tables", "per_model", "STEP", "U_MIN", "U_MAX", "Tables"]
 
@@ -45,14 +45,14 @@ class Tables:
         mid = 0.5 * (u[:-1] + u[1:])
         gl_u = (mid[:, None] + 0.5 * STEP * _GL_X[None, :]).ravel()
         all_u = np.concatenate([u, gl_u])
-        z = np.expm1(all_u)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-            comp = components(cosmo, z)
+            comp = components_x(cosmo, np.exp(all_u))
             e2 = (comp["photons"] + comp["neutrinos_massless"] + comp["neutrinos_massive"]
                   + comp["baryons"] + comp["cold_dark_matter"] + comp["dark_energy"]
                   + comp["curvature"])
             e = np.where(e2 > 0.0, np.sqrt(np.where(e2 > 0, e2, 1.0)), np.nan)
             inv_e = 1.0 / e
+        check_big_bang(cosmo, all_u, e2)
         n = _N
         ex = np.exp(all_u)
         d_tau = inv_e  # d tau / du
