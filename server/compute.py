@@ -207,6 +207,7 @@ def values_at(key: str, redshifts: tuple[float, ...]) -> dict:
                 model.evaluate(cosmology_for(key), np.asarray(redshifts, dtype=float)).items()}
 
 
+@cache.memoize()
 def survey_volume(key: str, sky_deg2: float, z_low: float, z_high: float) -> float:
     """Comoving volume [Gpc³] of a survey of `sky_deg2` square degrees between two redshifts:
     the all-sky shell (Hogg 1999, §9) times the sky fraction."""
@@ -215,6 +216,7 @@ def survey_volume(key: str, sky_deg2: float, z_low: float, z_high: float) -> flo
     return float((v[1] - v[0]) * sky_deg2 / codec.FULL_SKY_DEG2)
 
 
+@cache.memoize()
 def inverse_lookup(key: str, quantity: str, value: float) -> float | None:
     """The redshift at which `quantity` takes `value`, or None where there is none."""
     try:
