@@ -17,11 +17,12 @@ import math
 import numpy as np
 from scipy import optimize
 
+from ._acoustic import r_drag_fit
 from ._background import components
 from ._constants import SPEED_OF_LIGHT_KM_S
-from ._errors import ModelError, NoBigBangError
-from ._likelihood import (BAO_KINDS, SUPERNOVA_KIND, Nuisances, _public, goodness_of_fit, observable_parts,
-                          profile_nuisances)
+from ._errors import ModelError
+from ._likelihood import (BAO_KINDS, SUPERNOVA_KIND, Nuisances, goodness_of_fit,
+                          observable_parts, profile_nuisances)
 from ._params import PARAMETERS
 
 __all__ = [
@@ -276,7 +277,7 @@ class _Problem:
         omega_b_h2 = self.base.omega_b * h2
         valid = (self.base.omega_gamma > 0.0) & (omega_b_h2 > 0.0) & (omega_cb_h2 >= omega_b_h2)
         with np.errstate(invalid="ignore", divide="ignore"):
-            r_d = _public().r_drag_fit(np.where(valid, omega_cb_h2, 1.0), omega_b_h2, omega_nu_h2)
+            r_d = r_drag_fit(np.where(valid, omega_cb_h2, 1.0), omega_b_h2, omega_nu_h2)
         return np.where(valid, r_d, np.nan)
 
     def score(self, sets):

@@ -32,7 +32,9 @@ import math
 import numpy as np
 from scipy import linalg, stats
 
+from ._acoustic import acoustic_scales
 from ._constants import SPEED_OF_LIGHT_KM_S
+from ._distances import evaluate
 from ._measurements import MEASUREMENT_KINDS
 
 __all__ = [
@@ -45,13 +47,6 @@ __all__ = [
 
 SUPERNOVA_KIND = "distance_modulus"
 BAO_KINDS = ("dm_over_rd", "dh_over_rd", "dv_over_rd")
-
-
-def _public():
-    """The model package itself, imported late: model/__init__ imports this module."""
-    import model
-
-    return model
 
 
 @dataclasses.dataclass(frozen=True)
@@ -350,7 +345,7 @@ def _resolve(nuisances, cosmo, data):
         r_d = None
     elif nuisances.r_d == "model":
         needs = np.isin(data.kind, BAO_KINDS).any()
-        r_d = _public().acoustic_scales(cosmo)["r_drag"] if needs else np.nan
+        r_d = acoustic_scales(cosmo)["r_drag"] if needs else np.nan
     else:
         r_d = float(nuisances.r_d)
     offset = None if nuisances.offset == "free" else float(nuisances.offset)
@@ -409,7 +404,7 @@ def goodness_of_fit(cosmo, data, nuisances=Nuisances(), n_free=0):
     ----------
     Goliath, M. et al. 2001, A&A 380, 6. Conley, A. et al. 2011, ApJS 192, 1.
     """
-    quantities = _public().evaluate(cosmo, data.z)
+    quantities = evaluate(cosmo, data.z)
     base, bao = observable_parts(
         data, quantities["hubble_parameter"], quantities["comoving_distance"],
         quantities["transverse_comoving_distance"])
