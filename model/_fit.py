@@ -86,13 +86,15 @@ def _lobatto_panels(edges):
     in the ends of every edge.
     """
     ends, interior, weights, end_weights, starts, edge_index = [edges[0]], [], [], [], [], [0]
+    n_interior = 0
     for lo, hi in zip(edges[:-1], edges[1:]):
         n_panels = max(1, math.ceil((hi - lo) / _PANEL))
         step = (hi - lo) / n_panels
         nodes, node_weights, end_weight = _LOBATTO[3 if step <= _NARROW else 5]
         for k in range(n_panels):
             left = lo + k * step
-            starts.append(sum(len(i) for i in interior))
+            starts.append(n_interior)
+            n_interior += nodes.size
             interior.append(left + 0.5 * step * (nodes + 1.0))
             weights.append(0.5 * step * node_weights)
             end_weights.append(0.5 * step * end_weight)
@@ -210,12 +212,12 @@ class DistanceBatch:
                ("hubble_parameter", "comoving_distance", "transverse_comoving_distance")}
         for start in range(0, n_sets, block):
             rows = slice(start, start + block)
-            part = self._evaluate_block(*(a[rows, None] for a in arrays))
-            for key in out:
-                out[key][rows] = part[key]
+            self._evaluate_block(*(a[rows, None] for a in arrays),
+                                 out={key: value[rows] for key, value in out.items()})
         return out
 
-    def _evaluate_block(self, h0, omega_m, omega_k, w0, wa):
+    def _evaluate_block(self, h0, omega_m, omega_k, w0, wa, out):
+        """Fill ``out`` (views of shape (P, N)) for the parameter columns of shape (P, 1)."""
         e2 = self._e2(h0, omega_m, omega_k, w0, wa)
         n_sets, ne, ni = e2.shape[0], self._n_ends, self._n_interior
         with np.errstate(invalid="ignore", divide="ignore"):
@@ -227,14 +229,20 @@ class DistanceBatch:
                 panels = np.add.reduceat(self._interior_factor / e[:, ne:], self._starts, axis=1)
                 panels += self._end_weights * (at_ends[:, :-1] + at_ends[:, 1:])
                 np.cumsum(panels, axis=1, out=chi[:, 1:])
-            chi = chi[:, self._column]
-            d_c = (SPEED_OF_LIGHT_KM_S / h0) * chi
-            d_m = d_c * _curvature_shape(omega_k, chi) if np.any(omega_k != 0.0) else d_c
-            hubble = h0 * e[:, self._column]
+            d_c, d_m, hubble = (out[k] for k in ("comoving_distance",
+                                                 "transverse_comoving_distance",
+                                                 "hubble_parameter"))
+            np.take(chi, self._column, axis=1, out=d_c)
+            if np.any(omega_k != 0.0):
+                np.multiply(d_c, _curvature_shape(omega_k, d_c), out=d_m)
+            else:
+                d_m[...] = d_c
+            d_c *= SPEED_OF_LIGHT_KM_S / h0
+            d_m *= SPEED_OF_LIGHT_KM_S / h0
+            np.take(e, self._column, axis=1, out=hubble)
+            hubble *= h0
             for array in (d_c, d_m, hubble):
                 array[no_big_bang] = np.nan
-        return {"hubble_parameter": hubble, "comoving_distance": d_c,
-                "transverse_comoving_distance": d_m}
 
 
 def _curvature_shape(omega_k, chi):

@@ -211,3 +211,20 @@ def test_nuisance_settings_are_validated():
                 {"r_d": True}):
         with pytest.raises(ValueError):
             Nuisances(**bad)
+
+
+def test_chi2_with_correlated_pairs_in_any_row_order_matches_direct_solve():
+    rng = np.random.default_rng(19)
+    z, kinds, value, error = bao_rows(rng, TRUE, 147.0)
+    # pairs on rows (1, 4) and (2, 6): not adjacent, and a row between them
+    group = ["", "a", "b", "", "a", "", "b"]
+    correlation = [None, -0.4, 0.3, None, -0.4, None, 0.3]
+    data = measurement_set(z, kinds, value, error, group=group, correlation=correlation)
+    assert data.covariance_source == "pairs"
+    gof = goodness_of_fit(OTHER, data, Nuisances(r_d=150.0))
+    r = value - gof.prediction
+    assert gof.chi2 == pytest.approx(float(r @ linalg.solve(data.covariance, r)), rel=1e-12)
+    cov = np.diag(np.asarray(error) ** 2)
+    cov[1, 4] = cov[4, 1] = -0.4 * error[1] * error[4]
+    cov[2, 6] = cov[6, 2] = 0.3 * error[2] * error[6]
+    np.testing.assert_allclose(data.covariance, cov, rtol=1e-15)
