@@ -23,6 +23,7 @@ from ._constants import SPEED_OF_LIGHT_KM_S
 from ._errors import ModelError
 from ._likelihood import (BAO_KINDS, SUPERNOVA_KIND, Nuisances, goodness_of_fit,
                           observable_parts, profile_nuisances)
+from ._measurements import _frozen
 from ._params import PARAMETERS
 
 __all__ = [
@@ -406,12 +407,6 @@ class FitResult:
         return f"FitResult({parts}, chi2_min={self.chi2_min:.4g}, dof={self.dof})"
 
 
-def _readonly(array):
-    array = np.array(array, dtype=float)
-    array.flags.writeable = False
-    return array
-
-
 def quick_fit(cosmo, data, free, nuisances=Nuisances(), *, max_evaluations=200):
     """Least-squares fit of chosen parameters of a model to a measurement set.
 
@@ -507,8 +502,8 @@ def quick_fit(cosmo, data, free, nuisances=Nuisances(), *, max_evaluations=200):
     goodness = goodness_of_fit(fitted, data, fixed, n_free=len(names))
     chi2_min = float(2.0 * solution.cost)
     return FitResult(
-        names=names, values=_readonly(theta), errors=_readonly(errors),
-        covariance=_readonly(covariance), correlation=_readonly(correlation),
+        names=names, values=_frozen(theta), errors=_frozen(errors),
+        covariance=_frozen(covariance), correlation=_frozen(correlation),
         chi2_min=chi2_min, dof=goodness.dof, bounds=bounds, at_bound=at_bound,
         cosmology=fitted, goodness=goodness, success=bool(solution.success),
         message=str(solution.message), n_evaluations=n_evaluations[0])
@@ -640,6 +635,6 @@ def chi2_map(cosmo, data, x_name, x_values, y_name, y_values, nuisances=Nuisance
         raise FitError("no node of the grid gives a valid model for these data")
     j, i = np.unravel_index(np.nanargmin(chi2), chi2.shape)
     chi2_min = float(chi2[j, i])
-    return Chi2Map(x_name=x_name, y_name=y_name, x=_readonly(x), y=_readonly(y),
-                   chi2=_readonly(chi2), delta_chi2=_readonly(chi2 - chi2_min), chi2_min=chi2_min,
+    return Chi2Map(x_name=x_name, y_name=y_name, x=_frozen(x), y=_frozen(y),
+                   chi2=_frozen(chi2), delta_chi2=_frozen(chi2 - chi2_min), chi2_min=chi2_min,
                    best={x_name: float(x[i]), y_name: float(y[j])})

@@ -35,7 +35,7 @@ from scipy import linalg, stats
 from ._acoustic import acoustic_scales
 from ._constants import SPEED_OF_LIGHT_KM_S
 from ._distances import evaluate
-from ._measurements import MEASUREMENT_KINDS
+from ._measurements import MEASUREMENT_KINDS, _frozen
 
 __all__ = [
     "Nuisances",
@@ -373,7 +373,7 @@ def _resolve(nuisances, cosmo, data):
     return r_d, offset
 
 
-def summarise(label, data, nuisances, profiled, n_free):
+def _summarise(label, data, nuisances, profiled, n_free):
     """A :class:`GoodnessOfFit` from row 0 of :func:`profile_nuisances` output."""
     chi2 = float(profiled["chi2"][0])
     n_points = len(data)
@@ -383,16 +383,12 @@ def summarise(label, data, nuisances, profiled, n_free):
     aic, bic = information_criteria(chi2, n_parameters, n_points)
     prediction = profiled["prediction"][0]
     residual = data.value - prediction
-    frozen = []
-    for array in (prediction, residual, residual / data.error):
-        array = np.array(array)
-        array.flags.writeable = False
-        frozen.append(array)
     return GoodnessOfFit(
         label=label, chi2=chi2, n_points=n_points, n_parameters=n_parameters, dof=dof,
         p_value=p_value, aic=aic, bic=bic, delta_chi2=math.nan,
         r_d=float(profiled["r_d"][0]), offset=float(profiled["offset"][0]),
-        prediction=frozen[0], residual=frozen[1], pull=frozen[2], data=data, nuisances=nuisances)
+        prediction=_frozen(prediction), residual=_frozen(residual),
+        pull=_frozen(residual / data.error), data=data, nuisances=nuisances)
 
 
 def goodness_of_fit(cosmo, data, nuisances=Nuisances(), n_free=0):
@@ -431,7 +427,7 @@ def goodness_of_fit(cosmo, data, nuisances=Nuisances(), n_free=0):
         quantities["transverse_comoving_distance"])
     r_d, offset = _resolve(nuisances, cosmo, data)
     profiled = profile_nuisances(data, base, bao, r_d, offset)
-    return summarise(cosmo.label, data, nuisances, profiled, n_free)
+    return _summarise(cosmo.label, data, nuisances, profiled, n_free)
 
 
 def compare_models(models, data, nuisances=Nuisances(), reference=0, n_free=0):
