@@ -42,7 +42,7 @@ def _num(x):
 
 
 PARAMETERS = (
-    ParameterSpec("h0", "H₀", "km/s/Mpc", 0.0, 1000.0, None, "Hubble constant today", True),
+    ParameterSpec("h0", "H₀", "km/s/Mpc", 0.01, 1000.0, None, "Hubble constant today"),
     ParameterSpec("omega_m", "Ω_m", "", 0.0, 5.0, None,
                   "all non-relativistic matter today, massive neutrinos included"),
     ParameterSpec("omega_b", "Ω_b", "", 0.0, 5.0, None,
@@ -110,7 +110,7 @@ class Cosmology:
     Parameters
     ----------
     h0 : float
-        Hubble constant H₀ in km s⁻¹ Mpc⁻¹, ``0 < h0 ≤ 1000``.
+        Hubble constant H₀ in km s⁻¹ Mpc⁻¹, ``0.01 ≤ h0 ≤ 1000``.
     omega_m : float
         All non-relativistic matter today as a fraction of the critical density,
         **including** the massive neutrinos' share (as published parameter tables quote it).
