@@ -138,4 +138,4 @@ def test_batch_matches_mpmath_quadrature():
 
     want = np.array([float(mpmath.quad(lambda t: 1 / e(t), [0, zi])) for zi in z]) * C_KM_S / 60.0
     got = DistanceBatch(c, z).evaluate()["comoving_distance"][0]
-    np.testing.assert_allclose(got, want, rtol=1e-11)
+    np.testing.assert_allclose(got, want, rtol=1e-10)  # the accuracy model._fit documents
