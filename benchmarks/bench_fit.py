@@ -6,24 +6,14 @@ parameter set), as a ratio measured in this run.
 """
 
 import pathlib
-import statistics
-import time
 
 import numpy as np
 
+from benchmarks.bench_model import _median_time
 from model import (Cosmology, Nuisances, chi2_map, evaluate, goodness_of_fit, quick_fit,
                    read_measurements)
 
 DEMO = pathlib.Path(__file__).resolve().parent.parent / "data" / "demo_synthetic.csv"
-
-
-def _median_time(fn, repeats):
-    times = []
-    for _ in range(repeats):
-        start = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - start)
-    return statistics.median(times)
 
 
 def run():
