@@ -12,10 +12,9 @@ import math
 import numpy as np
 import pytest
 
-from model import Cosmology, DistanceBatch, NoBigBangError, acoustic_scales, evaluate
-from model._fit import _Problem
-from model import Nuisances
 from measurement_tables import measurement_set
+from model import (Cosmology, DistanceBatch, NoBigBangError, Nuisances, acoustic_scales,
+                   chi2_map, evaluate, goodness_of_fit)
 
 C_KM_S = 299_792.458  # SI, exact
 
@@ -102,15 +101,19 @@ def test_sets_without_a_big_bang_are_nan_as_the_model_refuses_them():
         assert np.all(np.isfinite(out[key][0])) and np.all(np.isnan(out[key][1]))
 
 
-def test_vectorised_sound_horizon_is_acoustic_scales_r_drag():
+def test_map_with_r_d_from_the_model_uses_acoustic_scales_at_every_node():
+    # the map computes r_drag for all nodes at once; goodness_of_fit calls acoustic_scales
     base = Cosmology(h0=67.0, omega_m=0.31, m_nu=(0.06, 0.02))
-    data = measurement_set([0.5], "dm_over_rd", [13.0], 0.3)
-    problem = _Problem(base, data, Nuisances())
+    data = measurement_set([0.5, 0.5, 1.2], ["dm_over_rd", "dh_over_rd", "dv_over_rd"],
+                           [13.0, 21.0, 25.0], [0.3, 0.5, 0.6])
     h0 = np.array([55.0, 67.0, 75.0, 90.0])
-    omega_m = np.array([0.2, 0.31, 0.45, 0.6])
-    got = problem.model_r_d({"h0": h0, "omega_m": omega_m}, 4)
-    want = [acoustic_scales(base.replace(h0=a, omega_m=b))["r_drag"] for a, b in zip(h0, omega_m)]
-    np.testing.assert_allclose(got, want, rtol=1e-13)
+    omega_m = np.array([0.2, 0.31, 0.45])
+    m = chi2_map(base, data, "h0", h0, "omega_m", omega_m, Nuisances(r_d="model"))
+    for j, om in enumerate(omega_m):
+        for i, h in enumerate(h0):
+            model = base.replace(h0=h, omega_m=om)
+            assert goodness_of_fit(model, data).r_d == acoustic_scales(model)["r_drag"]
+            assert m.chi2[j, i] == pytest.approx(goodness_of_fit(model, data).chi2, rel=1e-7)
 
 
 def test_bad_redshifts_and_parameters_are_refused():
