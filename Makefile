@@ -18,7 +18,7 @@ run: $(STAMP)
 	$(PY) -m server --host 127.0.0.1 --port 8050
 
 test: $(STAMP)
-	$(PY) -m pytest -q
+	$(PY) -m pytest -q --headless -p no:cacheprovider
 
 bench: $(STAMP)
 	$(PY) -m benchmarks

@@ -13,7 +13,13 @@ from ._budget import COMPONENTS, densities, density_parameters, w_dark_energy, w
 from ._distances import QUANTITIES, Z_MAX, Z_MIN, evaluate
 from ._epochs import cosmic_time, epochs, scale_factor_history
 from ._errors import ModelError, NoBigBangError, ParameterError
+from ._fit import (CONFIDENCE_LEVELS_2D, FIT_PARAMETERS, Chi2Map, DistanceBatch, FitError,
+                   FitResult, chi2_map, quick_fit)
 from ._inverse import INVERTIBLE, redshift_at
+from ._likelihood import GoodnessOfFit, KindResiduals, Nuisances, compare_models, goodness_of_fit
+from ._measurements import (MEASUREMENT_COLUMNS, MEASUREMENT_KINDS, MeasurementFormatError,
+                            MeasurementLimits, MeasurementSet, parse_measurements,
+                            read_measurements)
 from ._params import MAX_NEUTRINO_SPECIES, PARAMETERS, Cosmology, ParameterSpec
 
 __all__ = [
@@ -43,4 +49,25 @@ __all__ = [
     "r_drag_fit",
     "redshift_at",
     "INVERTIBLE",
+    # measurements and goodness of fit
+    "MEASUREMENT_KINDS",
+    "MEASUREMENT_COLUMNS",
+    "MeasurementFormatError",
+    "MeasurementLimits",
+    "MeasurementSet",
+    "parse_measurements",
+    "read_measurements",
+    "Nuisances",
+    "GoodnessOfFit",
+    "KindResiduals",
+    "goodness_of_fit",
+    "compare_models",
+    "FIT_PARAMETERS",
+    "CONFIDENCE_LEVELS_2D",
+    "FitError",
+    "FitResult",
+    "Chi2Map",
+    "DistanceBatch",
+    "quick_fit",
+    "chi2_map",
 ]

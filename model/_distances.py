@@ -131,7 +131,7 @@ def evaluate(cosmo, z):
     recollapsing model (a > a_max) give NaN throughout.
 
     The integrals are computed once per model on a grid in ln(1+z) and interpolated (see
-    ``model._tables``); relative accuracy is better than 1e-9.
+    ``model._tables``); relative accuracy is better than 1e-9 (1e-8 for z < 0.01).
 
     Examples
     --------

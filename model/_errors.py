@@ -5,7 +5,11 @@ The hierarchy::
     ValueError
     └── ModelError                 anything the model refuses to compute
         ├── ParameterError         an input is out of its accepted range (names the field)
-        └── NoBigBangError         the parameters describe a universe with no big bang
+        ├── NoBigBangError         the parameters describe a universe with no big bang
+        ├── MeasurementFormatError a measurement file is malformed (names line and column;
+        │                          defined in _measurements)
+        └── FitError               a quick fit cannot be set up or ends without a big bang
+                                   (defined in _fit)
 """
 
 __all__ = ["ModelError", "ParameterError", "NoBigBangError"]

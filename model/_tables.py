@@ -4,7 +4,8 @@ The grid is uniform in u = ln(1 + z) = −ln a with step 1/128, from u = −4.70
 future) to u = 25 (z ≈ 7e10), with a node exactly at today. Between nodes each integral
 is advanced by 3-point Gauss–Legendre quadrature (error O(h⁷)); values and their exact
 derivatives (the integrands) at the nodes define cubic Hermite interpolants whose error
-is below 1e-9 relative. Beyond the top node the integrands are power laws in a to high
+is below 1e-9 relative (1e-8 within the first step of today, where values are tiny).
+Beyond the top node the integrands are power laws in a to high
 precision, and the tails are added in closed form.
 
 Columns (integrals in units of the Hubble distance c/H₀ or the Hubble time 1/H₀):
@@ -138,6 +139,10 @@ class Tables:
             with np.errstate(invalid="ignore"):
                 c2 = 3.0 * (f1 - f0) - 2.0 * d0 - d1
                 c3 = 2.0 * (f0 - f1) + d0 + d1
+            # An infinite column (the age of a model without a big bang) stays infinite.
+            endless = np.isinf(f0) & np.isinf(f1) & (np.sign(f0) == np.sign(f1))
+            if endless.any():
+                d0, c2, c3 = (np.where(endless, 0.0, c) for c in (d0, c2, c3))
             found = tuple(np.ascontiguousarray(c) for c in (f0, d0, c2, c3))
             self._coefficients[name] = found
         return found
