@@ -11,27 +11,72 @@ A spec::
 Curves travel as little-endian float32 typed arrays (``{"dtype": "f4", "bdata": ...}``, which
 plotly.js reads natively): values are already rounded to 6 significant digits, which float32
 keeps, at 4 bytes a number instead of about 10 characters of JSON. Every piece of text that
-came from a user goes through `escape_for_figure` first.
+came from a user goes through `escape_for_figure` first. An evenly spaced x (the redshift grid
+on a linear axis) travels as ``x0`` and ``dx`` instead.
 """
 
 from __future__ import annotations
 
 import base64
+import weakref
 
 import numpy as np
 
 from layouts.palette import slot_colour, slot_dash
 from layouts.text import escape_for_figure
 
-__all__ = ["figure", "small_multiples", "typed_array"]
+__all__ = ["figure", "small_multiples", "typed_array", "uniform_step"]
 
 FONT = {"family": "system-ui, -apple-system, 'Segoe UI', sans-serif", "size": 12}
 STRIP_SHARE = 0.28
 
 
-def typed_array(values) -> dict:
+# Encodings of read-only arrays that own their data (the cached model results, frozen by
+# server.cache), remembered while the array lives: a cached update re-draws the same curves.
+_ENCODED: dict[tuple[str, int], tuple[weakref.ref, object]] = {}
+
+
+def _once_per_array(kind: str, values, make):
+    if not (isinstance(values, np.ndarray) and not values.flags.writeable and values.flags.owndata):
+        return make(values)
+    key = (kind, id(values))
+    hit = _ENCODED.get(key)
+    if hit is not None and hit[0]() is values:
+        return hit[1]
+    out = make(values)
+    _ENCODED[key] = (weakref.ref(values, lambda _ref, key=key: _ENCODED.pop(key, None)), out)
+    return out
+
+
+def _encode_f4(values) -> dict:
     data = np.ascontiguousarray(np.asarray(values, dtype="<f4"))
     return {"dtype": "f4", "bdata": base64.b64encode(data.tobytes()).decode("ascii")}
+
+
+def typed_array(values) -> dict:
+    return dict(_once_per_array("f4", values, _encode_f4))
+
+
+def uniform_step(values) -> tuple[float, float] | None:
+    """``(start, step)`` when `values` are evenly spaced to within their 6-digit rounding, so a
+    trace can send ``x0``/``dx`` instead of repeating the same grid in every curve."""
+    x = np.asarray(values, dtype=float)
+    if x.ndim != 1 or len(x) < 3 or not np.isfinite(x).all():
+        return None
+    step = (x[-1] - x[0]) / (len(x) - 1)
+    if step <= 0:
+        return None
+    expected = x[0] + step * np.arange(len(x))
+    if np.max(np.abs(x - expected)) > 1e-5 * np.max(np.abs(x)):
+        return None
+    return float(x[0]), float(step)
+
+
+def _x_of(values) -> dict:
+    grid = _once_per_array("step", values, uniform_step)
+    if grid is None:
+        return {"x": typed_array(values)}
+    return {"x0": grid[0], "dx": grid[1]}
 
 
 def _trace(series: dict, spec: dict, yaxis: str, xaxis: str = "x", unit: str | None = None) -> dict:
@@ -42,7 +87,7 @@ def _trace(series: dict, spec: dict, yaxis: str, xaxis: str = "x", unit: str | N
     return {
         "type": "scatter",
         "mode": "lines",
-        "x": typed_array(series["x"]),
+        **_x_of(series["x"]),
         "y": typed_array(series["y"]),
         "name": name,
         "legendgroup": series.get("group", f"slot{slot}"),

@@ -15,10 +15,10 @@ import numpy as np
 
 import model
 from server import codec
-from server.cache import cache
+from server.cache import memoized
 
 __all__ = [
-    "GRID_POINTS", "SIGNIFICANT_DIGITS", "A_MIN", "A_MAX", "Resolved", "resolve", "resolve_all",
+    "GRID_POINTS", "LINEAR_GRID_ZMAX", "SIGNIFICANT_DIGITS", "A_MIN", "A_MAX", "Resolved", "resolve", "resolve_all",
     "model_curves", "values_at", "round_significant", "json_ready", "survey_volume", "inverse_lookup",
     "cosmology_for",
 ]
@@ -60,7 +60,7 @@ def resolve(state: codec.ModelState) -> Resolved:
         return Resolved(state, None, own[0])
     prefix = f"m{state.slot}"
     try:
-        cosmo = _build(state.physical(), label=state.label)
+        cosmo = _labelled(codec.model_cache_key(state), state.label)
     except model.ParameterError as err:
         key = f"{prefix}.{_URL_KEY_OF.get(err.field, err.field)}"
         return Resolved(state, None, codec.Problem(key, f"{key}: {_value_text(err.value)} is not accepted; "
@@ -88,8 +88,15 @@ def resolve_all(state: codec.LinkState) -> list[Resolved]:
 @functools.lru_cache(maxsize=64)
 def cosmology_for(key: str) -> model.Cosmology:
     """The Cosmology for a canonical model key (`codec.model_cache_key`)."""
+    return _labelled(key, "")
+
+
+@functools.lru_cache(maxsize=64)
+def _labelled(key: str, label: str) -> model.Cosmology:
+    # Cosmology is frozen: building one (its tables) is the costly part of validating a card,
+    # and every update validates every card, so keep the few in use
     query = "&".join(f"m1.{pair}" for pair in key.split("&") if pair)
-    return _build(codec.decode(query or "m1.label=").models[0].physical())
+    return _build(codec.decode(query or "m1.label=").models[0].physical(), label=label)
 
 
 def round_significant(values, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
@@ -152,8 +159,15 @@ def _plain(mapping: dict) -> dict:
     return out
 
 
+LINEAR_GRID_ZMAX = 20.0  # up to here the panels draw z on a linear axis (panels._z_axis)
+
+
 def redshift_grid(zmax: float, n: int = GRID_POINTS) -> np.ndarray:
-    """0..zmax, uniform in ln(1 + z): fine near z = 0 and still reaching far redshifts."""
+    """0..zmax: uniform in z while the axis is linear (the figures then send the grid as a start
+    and a step instead of an array); beyond, uniform in ln(1 + z), fine near z = 0 and still
+    reaching far redshifts on the log axis."""
+    if zmax <= LINEAR_GRID_ZMAX:
+        return np.linspace(0.0, zmax, n)
     return np.expm1(np.linspace(0.0, math.log1p(zmax), n))
 
 
@@ -166,7 +180,7 @@ def _budget(cosmo: model.Cosmology) -> dict:
     return {"a": a, "omega": fractions, "rho": rho}
 
 
-@cache.memoize()
+@memoized
 def model_curves(key: str, zmax: float) -> dict:
     """Everything the six panels draw for one model (rounded numpy arrays and plain dicts)."""
     cosmo = cosmology_for(key)
@@ -199,7 +213,7 @@ def model_curves(key: str, zmax: float) -> dict:
     }
 
 
-@cache.memoize()
+@memoized
 def values_at(key: str, redshifts: tuple[float, ...]) -> dict:
     """`model.evaluate` at the link's redshifts, unrounded, as numpy arrays."""
     with np.errstate(all="ignore"):
@@ -207,7 +221,7 @@ def values_at(key: str, redshifts: tuple[float, ...]) -> dict:
                 model.evaluate(cosmology_for(key), np.asarray(redshifts, dtype=float)).items()}
 
 
-@cache.memoize()
+@memoized
 def survey_volume(key: str, sky_deg2: float, z_low: float, z_high: float) -> float:
     """Comoving volume [Gpc³] of a survey of `sky_deg2` square degrees between two redshifts:
     the all-sky shell (Hogg 1999, §9) times the sky fraction."""
@@ -216,7 +230,7 @@ def survey_volume(key: str, sky_deg2: float, z_low: float, z_high: float) -> flo
     return float((v[1] - v[0]) * sky_deg2 / codec.FULL_SKY_DEG2)
 
 
-@cache.memoize()
+@memoized
 def inverse_lookup(key: str, quantity: str, value: float) -> float | None:
     """The redshift at which `quantity` takes `value`, or None where there is none."""
     try:

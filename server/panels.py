@@ -18,6 +18,7 @@ import model
 from layouts.palette import COMPONENT_COLOURS, slot_colour
 from layouts.text import number, with_unit
 from server import codec, compute
+from server.cache import fetch_many
 from server.presets import PRESETS
 
 __all__ = ["Comparison", "compare", "cards", "card_status", "panel", "panel_csv", "parameter_sets",
@@ -92,15 +93,18 @@ def compare(state: codec.LinkState) -> Comparison:
     others still render."""
     resolved = compute.resolve_all(state)
     entries, failures = [], {}
+    valid = [r for r in resolved if r.problem is None]
+    # one shared-cache round trip for every model; one model failing must not take the page down
+    fetched = dict(zip((id(r) for r in valid), fetch_many(
+        compute.model_curves, [(r.key, state.view.zmax) for r in valid], return_exceptions=True)))
     for r in resolved:
         if r.problem is not None:
             failures[r.state.slot] = r.problem
             continue
-        try:
-            curves = compute.model_curves(r.key, state.view.zmax)
-        except Exception as err:  # noqa: BLE001 - one model failing must not take the page down
+        curves = fetched[id(r)]
+        if isinstance(curves, Exception):
             failures[r.state.slot] = codec.Problem(f"m{r.state.slot}",
-                                                   f"m{r.state.slot}: could not be computed: {err}")
+                                                   f"m{r.state.slot}: could not be computed: {curves}")
             continue
         entries.append(Entry(r.state.slot, r.state.name, curves))
     wanted = codec.reference_slot(state)
@@ -196,7 +200,8 @@ def _strip(c: Comparison, pick, kind: str = "ratio", x_pick=lambda cv: cv["z"], 
 
 
 def _z_axis(c: Comparison) -> dict:
-    return {"x_title": "redshift z [dimensionless]", "x_hover": "z", "x_log": c.state.view.zmax > 20}
+    return {"x_title": "redshift z [dimensionless]", "x_hover": "z",
+            "x_log": c.state.view.zmax > compute.LINEAR_GRID_ZMAX}
 
 
 def _quantity_figure(c: Comparison, key: str, title: str | None = None, kind: str = "ratio",
@@ -324,8 +329,8 @@ def _time(c: Comparison) -> dict:
 
 def survey_rows(c: Comparison) -> list[list[str]]:
     view = c.state.view
-    volumes = {e.slot: compute.survey_volume(codec.model_cache_key(_state_of(c, e.slot)),
-                                             view.sky_area, *view.survey) for e in c.entries}
+    volumes = dict(zip((e.slot for e in c.entries), fetch_many(compute.survey_volume, [
+        (_key_of(c, e.slot), view.sky_area, *view.survey) for e in c.entries])))
     ref = volumes.get(c.reference.slot) if c.reference else None
     return [[e.name, with_unit(volumes[e.slot], "Gpc³"),
              number(volumes[e.slot] / ref if ref else None, 5)] for e in c.entries]
@@ -333,6 +338,10 @@ def survey_rows(c: Comparison) -> list[list[str]]:
 
 def _state_of(c: Comparison, slot: int) -> codec.ModelState:
     return next(m for m in c.state.models if m.slot == slot)
+
+
+def _key_of(c: Comparison, slot: int) -> str:
+    return next(r.key for r in c.resolved if r.state.slot == slot)
 
 
 def _view_control(c: Comparison, key: str, label: str, value: str, range_text: str) -> dict:
@@ -396,21 +405,23 @@ def table_rows(c: Comparison) -> tuple[list[str], list[list[str]]]:
         header.append(e.name)
         if e is not c.reference:
             header.append(f"{e.name} / {ref_name}")
-    values = {e.slot: compute.values_at(codec.model_cache_key(_state_of(c, e.slot)), view.redshifts)
-              for e in c.entries}
+    values = dict(zip((e.slot for e in c.entries), fetch_many(
+        compute.values_at, [(_key_of(c, e.slot), view.redshifts) for e in c.entries])))
+    z_texts = [number(z, 6) for z in view.redshifts]
     rows = []
-    for key in model.QUANTITIES:
-        unit = unit_of(key)
-        for i, z in enumerate(view.redshifts):
-            row = [f"{SYMBOLS.get(key, key)} [{unit or 'dimensionless'}]", number(z, 6)]
-            ref = values[c.reference.slot][key][i] if c.reference else None
+    with np.errstate(all="ignore"):
+        for key in model.QUANTITIES:
+            unit = unit_of(key)
+            ref = np.asarray(values[c.reference.slot][key], dtype=float) if c.reference else None
+            columns = []  # per model: its values, then (except the reference) the ratio, as text
             for e in c.entries:
-                v = values[e.slot][key][i]
-                row.append(number(v, 6))
+                v = np.asarray(values[e.slot][key], dtype=float)
+                columns.append([number(x, 6) for x in v.tolist()])
                 if e is not c.reference:
-                    with np.errstate(all="ignore"):
-                        row.append(number(v / ref if ref not in (None, 0) else None, 6))
-            rows.append(row)
+                    ratio = np.where(ref != 0, v / np.where(ref != 0, ref, 1.0), np.nan)
+                    columns.append([number(x, 6) for x in ratio.tolist()])
+            name = f"{SYMBOLS.get(key, key)} [{unit or 'dimensionless'}]"
+            rows.extend([name, z_texts[i], *(col[i] for col in columns)] for i in range(len(z_texts)))
     return header, rows
 
 
@@ -428,9 +439,9 @@ def _table(c: Comparison) -> dict:
                       "0 ≤ value"),
     ]
     header, rows = table_rows(c) if c.entries else ([], [])
-    inverse_rows = [[e.name, number(compute.inverse_lookup(codec.model_cache_key(_state_of(c, e.slot)),
-                                                          quantity, view.inverse_value), 6)]
-                    for e in c.entries]
+    found = fetch_many(compute.inverse_lookup, [(_key_of(c, e.slot), quantity, view.inverse_value)
+                                                 for e in c.entries])
+    inverse_rows = [[e.name, number(z, 6)] for e, z in zip(c.entries, found)]
     blocks = [
         {"kind": "table", "title": (f"Redshift where {model.QUANTITIES.get(quantity, ('', quantity))[1]} = "
                                     f"{with_unit(view.inverse_value, unit)}"),
