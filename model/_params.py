@@ -187,7 +187,8 @@ class Cosmology:
                 "omega_m", self.omega_m,
                 f"Ω_m ≥ Ω_ν = {omega_nu:.6g} (the massive neutrinos alone)",
                 f"{self.omega_m:g} is less than the massive neutrinos' share")
-        if self.omega_b is None:
+        baryons_given = self.omega_b is not None
+        if not baryons_given:
             set_(self, "omega_b", const.BARYON_FRACTION_DEFAULT * omega_cb)
         else:
             set_(self, "omega_b", _real("omega_b", self.omega_b))
@@ -211,6 +212,7 @@ class Cosmology:
             "omega_de": omega_de,
             "y0": y0,
             "masses": massive,
+            "baryons_given": baryons_given,
         })
         from ._tables import tables  # late: the tables need a built object
 
@@ -249,7 +251,13 @@ class Cosmology:
         return cls(omega_k=omega_k, **kwargs)
 
     def replace(self, **changes):
-        """A new, validated model with some inputs changed."""
+        """A new, validated model with some inputs changed.
+
+        A default Ω_b (the cosmic baryon fraction of the cold matter) is derived afresh
+        from the new inputs unless ``omega_b`` is among the changes.
+        """
+        if not self._derived["baryons_given"] and "omega_b" not in changes:
+            changes["omega_b"] = None
         return dataclasses.replace(self, **changes)
 
     def to_dict(self):
