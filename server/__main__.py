@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from server.app import create_app
+from server.app import create_app, settle_heap
 
 
 def main(argv: list[str] | None = None) -> None:
@@ -14,6 +14,7 @@ def main(argv: list[str] | None = None) -> None:
     parser.add_argument("--debug", action="store_true", help="Dash debug mode: reloader and dev tools")
     args = parser.parse_args(argv)
     app = create_app()
+    settle_heap()
     app.run(host=args.host, port=args.port, debug=args.debug)
 
 

@@ -13,6 +13,9 @@ from __future__ import annotations
 import collections
 import functools
 import hashlib
+import logging
+import os
+import queue
 import threading
 import weakref
 from pathlib import Path
@@ -21,7 +24,9 @@ from typing import Any, Callable, Iterable
 import numpy as np
 from flask_caching import Cache
 
-__all__ = ["cache", "code_fingerprint", "memoized", "fetch_many", "FRONT_ENTRIES"]
+__all__ = ["cache", "code_fingerprint", "memoized", "fetch_many", "flush_writes", "FRONT_ENTRIES"]
+
+logger = logging.getLogger(__name__)
 
 cache = Cache()
 
@@ -126,5 +131,40 @@ def fetch_many(memo: Callable, calls: Iterable[tuple], return_exceptions: bool =
                 fresh[keys[i]] = (results[i],)
             _remember(front, keys[i], results[i])
         if fresh:
-            cache.set_many(fresh)
+            _write_behind(cache.cache, fresh)
     return results
+
+
+# Writing to the shared cache (a pickled file and a count file per entry for FileSystemCache)
+# costs more than serving the page from memory, so one thread per process does it after the
+# response: the front LRU already holds the results, and the other workers see them moments
+# later. A full queue drops the write (the entry is then simply computed again elsewhere).
+_queue: "queue.Queue[tuple[Any, dict]]" = queue.Queue(maxsize=256)
+_writer: dict = {"pid": None}
+
+
+def _write_loop() -> None:
+    while True:
+        backend, mapping = _queue.get()
+        try:
+            backend.set_many(mapping)
+        except Exception:  # noqa: BLE001 - a failed write only costs a recomputation
+            logger.warning("could not store %d results in the shared cache", len(mapping), exc_info=True)
+        finally:
+            _queue.task_done()
+
+
+def _write_behind(backend, mapping: dict) -> None:
+    with _lock:
+        if _writer["pid"] != os.getpid():  # first write in this process (or after a fork)
+            _writer["pid"] = os.getpid()
+            threading.Thread(target=_write_loop, name="fdesk-cache-writer", daemon=True).start()
+    try:
+        _queue.put_nowait((backend, mapping))
+    except queue.Full:
+        logger.warning("shared-cache write queue full; %d results kept in this process only", len(mapping))
+
+
+def flush_writes() -> None:
+    """Wait until every queued shared-cache write is done (tests, benchmarks, shutdown)."""
+    _queue.join()

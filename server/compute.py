@@ -32,7 +32,8 @@ _URL_KEY_OF = {name: key for key, name in codec.MODEL_KEYS}
 
 @dataclass(frozen=True)
 class Resolved:
-    """A model slot after validation: the Cosmology, or the problem that stopped it."""
+    """A model slot after validation: the Cosmology (unlabelled, shared by every slot with the
+    same parameters; the label is in `state`), or the problem that stopped it."""
 
     state: codec.ModelState
     cosmology: model.Cosmology | None
@@ -60,7 +61,7 @@ def resolve(state: codec.ModelState) -> Resolved:
         return Resolved(state, None, own[0])
     prefix = f"m{state.slot}"
     try:
-        cosmo = _labelled(codec.model_cache_key(state), state.label)
+        cosmo = cosmology_for(codec.model_cache_key(state))  # the label is the state's, not needed here
     except model.ParameterError as err:
         key = f"{prefix}.{_URL_KEY_OF.get(err.field, err.field)}"
         return Resolved(state, None, codec.Problem(key, f"{key}: {_value_text(err.value)} is not accepted; "
@@ -87,16 +88,12 @@ def resolve_all(state: codec.LinkState) -> list[Resolved]:
 
 @functools.lru_cache(maxsize=64)
 def cosmology_for(key: str) -> model.Cosmology:
-    """The Cosmology for a canonical model key (`codec.model_cache_key`)."""
-    return _labelled(key, "")
+    """The Cosmology for a canonical model key (`codec.model_cache_key`), without a label.
 
-
-@functools.lru_cache(maxsize=64)
-def _labelled(key: str, label: str) -> model.Cosmology:
-    # Cosmology is frozen: building one (its tables) is the costly part of validating a card,
-    # and every update validates every card, so keep the few in use
+    Cosmology is frozen and building one (its tables) is the costly part of validating a card;
+    every update validates every card, so the few in use are kept."""
     query = "&".join(f"m1.{pair}" for pair in key.split("&") if pair)
-    return _build(codec.decode(query or "m1.label=").models[0].physical(), label=label)
+    return _build(codec.decode(query or "m1.label=").models[0].physical())
 
 
 def round_significant(values, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
@@ -197,20 +194,43 @@ def model_curves(key: str, zmax: float) -> dict:
             "dv_rd": at["volume_averaged_distance"] / r_drag,
         }
     budget = _budget(cosmo)
-    rnd = round_significant
+    curves = _rounded_together({
+        "z": z,
+        "at": at,
+        "w": w,
+        "history": history,
+        "bao": bao,
+        "a": budget["a"],
+        "omega": budget["omega"],
+        "rho": budget["rho"],
+        # what the log-scale density plot draws (negative densities have no point there)
+        "rho_positive": {k: np.where(np.asarray(v) > 0, v, np.nan) for k, v in budget["rho"].items()},
+    })
     return {
         "params": _plain(_resolved_parameters(cosmo)),
         "epochs": _plain(model.epochs(cosmo)),
         "acoustic": _plain(acoustic),
-        "z": rnd(z),
-        "at": {k: rnd(v) for k, v in at.items()},
-        "w": rnd(w),
-        "history": {k: rnd(v) for k, v in history.items()},
-        "bao": {k: rnd(v) for k, v in bao.items()},
-        "a": rnd(budget["a"]),
-        "omega": {k: rnd(v) for k, v in budget["omega"].items()},
-        "rho": {k: rnd(v) for k, v in budget["rho"].items()},
+        **curves,
     }
+
+
+def _rounded_together(tree: dict) -> dict:
+    """`round_significant` of every array in a (one-level nested) dict, in one numpy pass
+    instead of one per curve (about fifty curves a model)."""
+    leaves = [(k, None, v) for k, v in tree.items() if not isinstance(v, dict)]
+    leaves += [(k, k2, v) for k, v in tree.items() if isinstance(v, dict) for k2, v in v.items()]
+    arrays = [np.asarray(v, dtype=float) for _, _, v in leaves]
+    flat = round_significant(np.concatenate([a.ravel() for a in arrays]))
+    out = {k: {} for k, v in tree.items() if isinstance(v, dict)}
+    start = 0
+    for (k, k2, _), a in zip(leaves, arrays):
+        piece = flat[start:start + a.size].reshape(a.shape).copy()
+        start += a.size
+        if k2 is None:
+            out[k] = piece
+        else:
+            out[k][k2] = piece
+    return {k: out[k] for k in tree}  # the original key order
 
 
 @memoized

@@ -252,7 +252,7 @@ def _budget(c: Comparison) -> dict:
                                "y_hover": f"guide {text}"})
         density_panels.append({"title": e.name, "slot": e.slot, "series": [
             {"name": COMPONENT_NAMES[k], "slot": e.slot, "x": cv["a"],
-             "y": np.where(np.asarray(rho[k]) > 0, rho[k], np.nan),
+             "y": cv["rho_positive"][k],
              "colour": COMPONENT_COLOURS[k], "dash": "solid" if k != "critical" else "dash", "group": k,
              "y_hover": f"ρ ({COMPONENT_NAMES[k]})"}
             for k in comps + ["critical"] if k in rho] + guides})
