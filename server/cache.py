@@ -30,7 +30,8 @@ logger = logging.getLogger(__name__)
 
 cache = Cache()
 
-FRONT_ENTRIES = 256  # results kept in memory per process and backend (common practice, no source)
+FRONT_ENTRIES = 96  # results kept per process and backend: a model's curves are ~0.3 MB with their
+# encodings, so at most ~30 MB a worker (a judgement call, no source)
 _MISSING = object()
 # one front LRU per backend object, so a fresh app (as in each test) starts empty
 _fronts: "weakref.WeakKeyDictionary[Any, collections.OrderedDict]" = weakref.WeakKeyDictionary()

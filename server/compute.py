@@ -39,8 +39,8 @@ class Resolved:
     cosmology: model.Cosmology | None
     problem: codec.Problem | None
 
-    @property
-    def key(self) -> str:
+    @functools.cached_property
+    def key(self) -> str:  # computed once: panels look it up per model and per table
         return codec.model_cache_key(self.state)
 
 
