@@ -1,4 +1,8 @@
-"""JSON routes: ``GET /healthz`` and ``GET /api/v1/compare?<link query>``.
+"""JSON routes: ``GET /healthz``, ``GET /api/v1/compare?<link query>`` and ``POST /api/v1/data``.
+
+``POST /api/v1/data`` stores a measurement table (and optional covariance file) and answers its
+reference; ``compare`` with ``data=<hash>`` adds chi^2 per model (``server.data_store``). A
+malformed upload is a 400 naming file, line and column; an expired reference a 404.
 
 Any input the page would flag is a 400 ``{"error": {"field", "message"}}``; keys we do not know
 are listed in ``warnings``. NaN and infinities are sent as null. Never a 500 for bad input.
@@ -6,11 +10,12 @@ are listed in ``warnings``. NaN and infinities are sent as null. Never a 500 for
 
 from __future__ import annotations
 
+import json
 from importlib import metadata
 
 from flask import Blueprint, current_app, jsonify, request
 
-from server import codec, compute
+from server import codec, compute, data_store
 
 __all__ = ["make_blueprint", "compare_payload", "API_VERSION"]
 
@@ -50,6 +55,10 @@ def compare_payload(query: str) -> tuple[dict, codec.Problem | None]:
             "acoustic": curves["acoustic"],
             "at": {"z": list(state.view.redshifts), **at},
         })
+    if state.view.data is not None:
+        scores = _data_scores(state, resolved)  # raises data_store.DataError
+        for entry, score in zip(models, scores["models"]):
+            entry["data"] = score
     payload = {
         "version": API_VERSION,
         "query": codec.encode(state),
@@ -57,7 +66,60 @@ def compare_payload(query: str) -> tuple[dict, codec.Problem | None]:
         "models": models,
         "warnings": [f"{key}: unknown key, ignored" for key in state.unknown],
     }
+    if state.view.data is not None:
+        payload["data"] = scores["summary"]
     return compute.json_ready(payload), None
+
+
+def _data_scores(state: codec.LinkState, resolved: list) -> dict:
+    """chi^2, dof, p-value, AIC/BIC and delta chi^2 against the reference of every model."""
+    stored = data_store.load(state.view.data)
+    fitted = dict([state.view.fit]) if state.view.fit else {}
+    rows = [compute.goodness(r.key, stored.hash, state.view.r_d, len(fitted.get(r.state.slot, ())))
+            for r in resolved]
+    ref = next(g for r, g in zip(resolved, rows) if r.state.slot == codec.reference_slot(state))
+    keys = ("chi2", "dof", "p_value", "n_points", "n_parameters", "aic", "bic", "r_d", "offset")
+    return {
+        "models": [{**{k: g[k] for k in keys}, "delta_chi2": g["chi2"] - ref["chi2"]} for g in rows],
+        "summary": {"hash": stored.hash, "rows": len(stored.measurements),
+                    "kinds": {k: int((stored.measurements.kind == k).sum())
+                              for k in stored.measurements.kinds_present},
+                    "covariance": stored.measurements.covariance_source, "r_d": state.view.r_d,
+                    "units": {"chi2": "1", "r_d": "Mpc", "offset": "mag"}},
+    }
+
+
+# Largest request body POST /api/v1/data reads: both files at their limits plus form overhead.
+_MAX_UPLOAD = data_store.LIMITS.max_bytes + data_store.LIMITS.max_covariance_bytes + 65536
+
+
+def _upload_fields() -> tuple[bytes | None, bytes | None, str]:
+    """(measurements, covariance, name) from a multipart form, a JSON body or a raw body."""
+    if request.mimetype == "multipart/form-data" or request.mimetype == "application/x-www-form-urlencoded":
+        def field(name):
+            if name in request.files:
+                upload = request.files[name]
+                return upload.read(), upload.filename or ""
+            if name in request.form:
+                return request.form[name].encode("utf-8", "surrogatepass"), ""
+            return None, ""
+        measurements, name = field("measurements")
+        covariance, _ = field("covariance")
+        return measurements, covariance, name
+    body = request.get_data(cache=False)
+    if request.mimetype == "application/json":
+        try:
+            document = json.loads(body.decode("utf-8"))
+        except (UnicodeDecodeError, ValueError) as err:
+            raise data_store.DataRejected("body", f"body: not valid JSON ({err}); send "
+                                                  '{"measurements": "<table text>", "covariance": "<optional>"}')
+        if not isinstance(document, dict) or not isinstance(document.get("measurements"), str) or \
+                not isinstance(document.get("covariance", ""), (str, type(None))):
+            raise data_store.DataRejected("body", 'body: expected a JSON object {"measurements": "<table text>", '
+                                                  '"covariance": "<optional text>"}')
+        return document["measurements"].encode("utf-8", "surrogatepass"), (
+            document["covariance"].encode("utf-8", "surrogatepass") if document.get("covariance") else None), ""
+    return body, None, ""
 
 
 def make_blueprint() -> Blueprint:
@@ -71,11 +133,36 @@ def make_blueprint() -> Blueprint:
             "cache": current_app.config["CACHE_TYPE"],
         })
 
+    @bp.post("/api/v1/data")
+    def store_data():
+        if request.content_length is not None and request.content_length > _MAX_UPLOAD:
+            return jsonify({"error": {"field": "body", "message": (
+                f"body: {request.content_length} bytes; at most {_MAX_UPLOAD} are read (measurement file "
+                f"≤ {data_store.LIMITS.max_bytes} bytes, covariance file ≤ "
+                f"{data_store.LIMITS.max_covariance_bytes} bytes)")}}), 413
+        try:
+            measurements, covariance, name = _upload_fields()
+            stored = data_store.store(measurements, covariance, name)
+        except data_store.DataRejected as err:
+            return jsonify({"error": {"field": err.field, "line": err.line, "column": err.column,
+                                      "column_name": err.column_name, "message": str(err)}}), 400
+        except data_store.DataError as err:
+            return jsonify({"error": {"field": err.field, "message": str(err)}}), 503
+        data = stored.measurements
+        return jsonify({"data": stored.hash, "query": f"data={stored.hash}", "rows": len(data),
+                        "kinds": {k: int((data.kind == k).sum()) for k in data.kinds_present},
+                        "covariance": data.covariance_source,
+                        "expires_in_s": int(current_app.config.get("DATA_TIMEOUT", data_store.DEFAULT_TIMEOUT))}), 201
+
     @bp.get("/api/v1/compare")
     def compare():
         query = request.query_string.decode("utf-8", errors="replace")
         try:
             payload, problem = compare_payload(query)
+        except data_store.DataNotFound as err:
+            return jsonify({"error": {"field": err.field, "message": str(err)}}), 404
+        except data_store.DataError as err:
+            return _error(err.field, str(err))
         except Exception as err:  # noqa: BLE001 - a model failure must still answer in JSON
             current_app.logger.exception("compare failed for %r", query)
             return jsonify({"error": {"field": "", "message": f"the computation failed: {err}"}}), 422

@@ -12,7 +12,10 @@ Scheme version 1 (documented in README.md, "The link"):
   ``mN.ode`` (at most one), ``mN.w0``, ``mN.wa``, ``mN.tcmb``, ``mN.neff``, ``mN.mnu``
   (comma-separated eV). A slot exists when any of its keys appears.
 * view: ``v`` (scheme version), ``ref``, ``tab``, ``zmax``, ``z`` (table redshifts), ``dist``
-  (distance shown), ``sky`` and ``zs`` (survey box), ``iq`` and ``iv`` (inverse look-up).
+  (distance shown), ``sky`` and ``zs`` (survey box), ``iq`` and ``iv`` (inverse look-up),
+  ``data`` (content hash of a stored measurement set), ``rd`` (sound horizon for the D/r_d
+  measurements: ``model`` or ``free``) and ``fit`` (``N:names``: slot N holds a best fit of
+  those parameters, counted in its AIC/BIC).
 """
 
 from __future__ import annotations
@@ -30,6 +33,7 @@ __all__ = [
     "ModelState", "ViewState", "LinkState", "decode", "encode", "format_number",
     "default_model", "demo_models", "model_cache_key", "parameter_spec", "range_text",
     "reference_slot", "invertible", "VIEW_KEYS", "Z_MIN", "Z_MAX", "FULL_SKY_DEG2",
+    "DATA_HASH_LENGTH", "R_D_CHOICES", "FIT_KEYS",
 ]
 
 SCHEME_VERSION = 1
@@ -53,7 +57,7 @@ MODEL_KEYS = (
 )
 _FIELD_OF = dict(MODEL_KEYS)
 
-TABS = ("budget", "distances", "time", "volume", "acoustic", "table")
+TABS = ("budget", "distances", "time", "volume", "acoustic", "table", "data")
 # Link value -> evaluate() key of the distance drawn in the distances panel.
 DISTANCE_CHOICES = {
     "dc": "comoving_distance",
@@ -61,7 +65,14 @@ DISTANCE_CHOICES = {
     "da": "angular_diameter_distance",
     "dl": "luminosity_distance",
 }
-VIEW_KEYS = ("v", "ref", "tab", "zmax", "z", "dist", "sky", "zs", "iq", "iv")
+VIEW_KEYS = ("v", "ref", "tab", "zmax", "z", "dist", "sky", "zs", "iq", "iv", "data", "rd", "fit")
+# A stored measurement set is named by this many lowercase hex digits of its SHA-256.
+DATA_HASH_LENGTH = 24
+_DATA_HASH = re.compile(f"[0-9a-f]{{{DATA_HASH_LENGTH}}}")
+R_D_CHOICES = ("model", "free")
+# Link spelling -> model.FIT_PARAMETERS name of the parameters a fit can free (``fit`` key).
+FIT_KEYS = {"h0": "h0", "om": "omega_m", "ok": "omega_k", "w0": "w0", "wa": "wa", "rd": "r_d",
+            "off": "offset"}
 
 _NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
 _SLOT_KEY = re.compile(r"m(\d+)\.([a-z0-9]+)")
@@ -187,6 +198,9 @@ class ViewState:
     survey: tuple[float, float] = (0.5, 1.5)
     inverse_quantity: str = "age"
     inverse_value: float = 5.0
+    data: str | None = None
+    r_d: str = "model"
+    fit: tuple[int, tuple[str, ...]] | None = None
     invalid: tuple[tuple[str, str], ...] = ()
 
     def problems(self) -> tuple[Problem, ...]:
@@ -350,6 +364,25 @@ def _check_view_value(key: str, raw: str):
         if raw not in invertible():
             return f"iq: {raw!r} cannot be inverted; expected one of {', '.join(invertible())}"
         return "inverse_quantity", raw
+    if key == "data":
+        if not _DATA_HASH.fullmatch(raw):
+            return (f"data: {raw!r} is not a stored-data reference; expected {DATA_HASH_LENGTH} "
+                    "lowercase hexadecimal digits (as POST /api/v1/data answers)")
+        return "data", raw
+    if key == "rd":
+        if raw not in R_D_CHOICES:
+            return f"rd: {raw!r} is not a sound-horizon choice; expected one of {', '.join(R_D_CHOICES)}"
+        return "r_d", raw
+    if key == "fit":
+        what = (f"N:names with N a slot 1 to {MAX_SLOTS} and names comma-separated from "
+                f"{', '.join(FIT_KEYS)}, e.g. 4:om,w0")
+        slot_text, _, names_text = raw.partition(":")
+        names = names_text.split(",") if names_text else []
+        if not re.fullmatch(r"[1-9]", slot_text) or not 1 <= int(slot_text) <= MAX_SLOTS or not names \
+                or any(n not in FIT_KEYS for n in names) or len(set(names)) != len(names):
+            return f"fit: {raw!r} is not a fit description; expected {what}"
+        ordered = tuple(n for n in FIT_KEYS if n in names)  # one spelling per set of names
+        return "fit", (int(slot_text), ordered)
     if key in ("zmax", "sky", "iv"):
         value = _parse_number(raw)
         low, high, what = {
@@ -459,6 +492,10 @@ def decode(query: str) -> LinkState:
             changes["reference"] = None
         elif changes["reference"] == slots[0]:
             changes["reference"] = None  # the first model is the default reference
+    if changes.get("fit") is not None and changes["fit"][0] not in slots:
+        notices.append(Problem("fit", f"fit: model {changes['fit'][0]} is not in the link; "
+                                      "the fit note is dropped"))
+        changes["fit"] = None
     view = replace(ViewState(), **changes, invalid=tuple(invalid))
     return LinkState(models=models, view=view, notices=tuple(notices), unknown=tuple(unknown))
 
@@ -506,9 +543,13 @@ def encode(state: LinkState) -> str:
         "zs": lambda v: ",".join(map(format_number, v)),
         "iq": str,
         "iv": format_number,
+        "data": str,
+        "rd": str,
+        "fit": lambda v: f"{v[0]}:{','.join(v[1])}",
     }
     attribute = {"ref": "reference", "tab": "tab", "zmax": "zmax", "z": "redshifts", "dist": "distance",
-                 "sky": "sky_area", "zs": "survey", "iq": "inverse_quantity", "iv": "inverse_value"}
+                 "sky": "sky_area", "zs": "survey", "iq": "inverse_quantity", "iv": "inverse_value",
+                 "data": "data", "rd": "r_d", "fit": "fit"}
     for key in VIEW_KEYS[1:]:
         if key in invalid:
             items.append((key, invalid[key]))

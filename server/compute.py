@@ -20,7 +20,7 @@ from server.cache import memoized
 __all__ = [
     "GRID_POINTS", "LINEAR_GRID_ZMAX", "SIGNIFICANT_DIGITS", "A_MIN", "A_MAX", "Resolved", "resolve", "resolve_all",
     "model_curves", "values_at", "round_significant", "json_ready", "survey_volume", "inverse_lookup",
-    "cosmology_for",
+    "cosmology_for", "goodness", "fit", "chi2_grid",
 ]
 
 GRID_POINTS = 400
@@ -259,3 +259,56 @@ def inverse_lookup(key: str, quantity: str, value: float) -> float | None:
     except (model.ModelError, ValueError):
         return None
     return z if math.isfinite(z) else None
+
+
+# ----------------------------------------------------------------------------- measurements
+
+
+def _measurements(digest: str) -> model.MeasurementSet:
+    from server import data_store  # needs the app's cache: imported where it is used
+
+    return data_store.load(digest).measurements
+
+
+@memoized
+def goodness(key: str, digest: str, r_d: str, n_free: int = 0) -> dict:
+    """`model.goodness_of_fit` of one model against a stored set, as plain numbers and arrays.
+
+    `r_d` is ``"model"`` (each model's own r_drag) or ``"free"`` (minimised); the supernova
+    offset is always marginalised. `n_free` counts parameters fitted to these data."""
+    data = _measurements(digest)
+    with np.errstate(all="ignore"):
+        g = model.goodness_of_fit(cosmology_for(key), data, model.Nuisances(r_d=r_d), n_free=n_free)
+    return {"chi2": g.chi2, "n_points": g.n_points, "n_parameters": g.n_parameters, "dof": g.dof,
+            "p_value": g.p_value, "aic": g.aic, "bic": g.bic, "r_d": g.r_d, "offset": g.offset,
+            "prediction": np.array(g.prediction), "residual": np.array(g.residual), "pull": np.array(g.pull)}
+
+
+@memoized
+def fit(key: str, digest: str, free: tuple[tuple[str, float, float], ...], r_d: str) -> dict:
+    """`model.quick_fit` of the parameters ``free`` (``(name, low, high)``, names of
+    `model.FIT_PARAMETERS`) of one model; raises `model.FitError` when it cannot be done."""
+    data = _measurements(digest)
+    with np.errstate(all="ignore"):
+        result = model.quick_fit(cosmology_for(key), data, {n: (lo, hi) for n, lo, hi in free},
+                                 model.Nuisances(r_d=r_d))
+    c = result.cosmology
+    g = result.goodness
+    return {"names": list(result.names), "values": result.values.tolist(), "errors": result.errors.tolist(),
+            "correlation": result.correlation.tolist(), "chi2_min": result.chi2_min, "dof": result.dof,
+            "p_value": g.p_value, "aic": g.aic, "bic": g.bic, "n_parameters": g.n_parameters,
+            "at_bound": list(result.at_bound), "success": result.success, "message": result.message,
+            "n_evaluations": result.n_evaluations, "r_d": g.r_d, "offset": g.offset,
+            "cosmology": {"h0": c.h0, "omega_m": c.omega_m, "omega_k": c.omega_k, "w0": c.w0, "wa": c.wa}}
+
+
+@memoized
+def chi2_grid(key: str, digest: str, x: tuple[str, float, float], y: tuple[str, float, float], n: int,
+              r_d: str) -> dict:
+    """`model.chi2_map` on an n x n grid: ``x`` and ``y`` are ``(name, low, high)``."""
+    data = _measurements(digest)
+    xs, ys = np.linspace(x[1], x[2], n), np.linspace(y[1], y[2], n)
+    with np.errstate(all="ignore"):
+        m = model.chi2_map(cosmology_for(key), data, x[0], xs, y[0], ys, model.Nuisances(r_d=r_d))
+    return {"x_name": m.x_name, "y_name": m.y_name, "x": xs, "y": ys, "delta_chi2": np.array(m.delta_chi2),
+            "chi2_min": m.chi2_min, "best": dict(m.best), "levels": [list(level) for level in m.levels]}

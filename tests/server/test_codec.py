@@ -68,6 +68,12 @@ def link_states(draw):
         survey=(low, high),
         inverse_quantity=draw(st.sampled_from(codec.invertible())),
         inverse_value=draw(st.floats(min_value=0, max_value=1e9)),
+        data=draw(st.none() | st.text("0123456789abcdef", min_size=codec.DATA_HASH_LENGTH,
+                                        max_size=codec.DATA_HASH_LENGTH)),
+        r_d=draw(st.sampled_from(codec.R_D_CHOICES)),
+        fit=draw(st.none() | st.tuples(st.sampled_from(slots), st.lists(
+            st.sampled_from(list(codec.FIT_KEYS)), min_size=1, unique=True).map(
+            lambda names: tuple(n for n in codec.FIT_KEYS if n in names)))),
     )
     return codec.LinkState(models=models, view=view)
 
@@ -91,6 +97,8 @@ def test_encoding_is_canonical_under_reordering_and_respelling(state):
     respelt = []
     for key, value in reversed(pairs):
         try:
+            if key.endswith(".label"):
+                raise ValueError("a label is text even when it reads as a number")
             float(value)
             value = value + "0" if "." in value and "e" not in value else value
         except ValueError:
@@ -236,3 +244,28 @@ def test_cache_key_ignores_label_and_slot():
     b = codec.decode("m3.label=B&m3.h0=70").models[0]
     assert codec.model_cache_key(a) == codec.model_cache_key(b) == "h0=70"
     assert math.isfinite(a.h0)
+
+
+def test_data_reference_r_d_choice_and_fit_note():
+    state = codec.decode("m1.h0=70&m2.w0=-0.9&data=0123456789abcdef01234567&rd=free&fit=2:w0,om")
+    assert state.problems() == ()
+    assert (state.view.data, state.view.r_d, state.view.fit) == ("0123456789abcdef01234567", "free", (2, ("om", "w0")))
+    # names in the fixed order of codec.FIT_KEYS, defaults (rd=model, no data) omitted
+    assert codec.encode(state) == "v=1&data=0123456789abcdef01234567&rd=free&fit=2:om,w0&m1.h0=70&m2.w0=-0.9"
+    assert "rd=" not in codec.encode(codec.decode("m1.h0=70&rd=model"))
+
+
+@pytest.mark.parametrize("key, raw", [("data", "xyz"), ("data", "0123456789ABCDEF01234567"), ("data", "0" * 25),
+                                      ("rd", "maybe"), ("fit", "1"), ("fit", "1:"), ("fit", "0:om"),
+                                      ("fit", "1:om,om"), ("fit", "1:omega")])
+def test_bad_data_keys_are_reported_and_kept_verbatim(key, raw):
+    state = codec.decode(f"m1.h0=70&{key}={raw}")
+    assert [p.key for p in state.problems()] == [key]
+    assert state.problems()[0].message.startswith(f"{key}: ")
+    assert f"{key}={urllib.parse.quote(raw, safe=',:')}" in codec.encode(state)
+
+
+def test_fit_note_for_a_missing_slot_is_dropped_with_a_notice():
+    state = codec.decode("m1.h0=70&fit=3:om")
+    assert state.view.fit is None and [p.key for p in state.notices] == ["fit"]
+    assert "fit=" not in codec.encode(state)
