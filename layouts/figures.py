@@ -5,6 +5,7 @@ A spec::
     {"title": str, "x_title": str, "y_title": str, "x_log": bool, "y_log": bool,
      "x_hover": "z", "y_hover": "D_L", "unit": "Mpc",
      "series": [{"name", "slot", "x", "y", "colour"?, "dash"?, "group"?}],
+     "points": [{"name", "slot"?, "x", "y", "error"?, "text"?, "colour"?, "symbol"?}],  (measurements)
      "strip": {"y_title", "series": [...], "unit"} or None,
      "markers": [{"x", "text", "slot"}]}
 
@@ -25,7 +26,7 @@ import numpy as np
 from layouts.palette import slot_colour, slot_dash
 from layouts.text import escape_for_figure
 
-__all__ = ["figure", "small_multiples", "typed_array", "uniform_step"]
+__all__ = ["figure", "small_multiples", "typed_array", "uniform_step", "chi2_map_figure"]
 
 FONT = {"family": "system-ui, -apple-system, 'Segoe UI', sans-serif", "size": 12}
 STRIP_SHARE = 0.28
@@ -79,7 +80,32 @@ def _x_of(values) -> dict:
     return {"x0": grid[0], "dx": grid[1]}
 
 
+def _points_trace(points: dict, spec: dict, yaxis: str, unit: str | None = None) -> dict:
+    """Measurements as markers with 1-sigma error bars; `text` (labels from the file) is escaped."""
+    unit = spec.get("unit", "") if unit is None else unit
+    unit_text = f" {unit}" if unit and unit != "1" else ""
+    name = escape_for_figure(points["name"])
+    colour = points.get("colour") or (slot_colour(points["slot"]) if "slot" in points else "#333333")
+    trace = {
+        "type": "scatter", "mode": "markers", "name": name, "xaxis": "x", "yaxis": yaxis,
+        "x": np.asarray(points["x"], dtype=float).tolist(), "y": np.asarray(points["y"], dtype=float).tolist(),
+        "legendgroup": points.get("group", f"points-{name}"), "showlegend": points.get("showlegend", True),
+        "marker": {"color": colour, "size": points.get("size", 5), "symbol": points.get("symbol", "circle")},
+        "hovertemplate": (f"{spec.get('x_hover', 'x')} = %{{x:.5g}}<br>"
+                          f"{points.get('y_hover', spec.get('y_hover', 'y'))} = %{{y:.5g}}{unit_text}"
+                          + ("<br>%{text}" if points.get("text") is not None else "") + f"<extra>{name}</extra>"),
+    }
+    if points.get("error") is not None:
+        trace["error_y"] = {"type": "data", "array": np.asarray(points["error"], dtype=float).tolist(),
+                            "visible": True, "thickness": 1, "width": 0, "color": colour}
+    if points.get("text") is not None:
+        trace["text"] = [escape_for_figure(t) for t in points["text"]]
+    return trace
+
+
 def _trace(series: dict, spec: dict, yaxis: str, xaxis: str = "x", unit: str | None = None) -> dict:
+    if series.get("mode") == "markers":
+        return _points_trace(series, spec, yaxis, unit)
     slot = series.get("slot", 1)
     name = escape_for_figure(series["name"])
     unit = spec.get("unit", "") if unit is None else unit
@@ -117,6 +143,7 @@ def figure(spec: dict) -> dict:
     """One plot over redshift (or another x), with an optional strip against the reference."""
     strip = spec.get("strip")
     data = [_trace(s, spec, "y") for s in spec["series"]]
+    data += [_points_trace(p, spec, "y") for p in spec.get("points", [])]
     layout = {
         "title": {"text": escape_for_figure(spec.get("title", "")), "x": 0.01, "font": {"size": 14}},
         "font": FONT,
@@ -197,4 +224,40 @@ def small_multiples(spec: dict) -> dict:
                 "type": "line", "xref": f"x{suffix}", "yref": "paper", "x0": marker["x"], "x1": marker["x"],
                 "y0": 0, "y1": 1, "line": {"color": "#888888", "width": 1, "dash": "dot"}})
     layout["annotations"] = annotations
+    return {"data": data, "layout": layout}
+
+
+def chi2_map_figure(spec: dict) -> dict:
+    """Δχ² on a grid with the joint confidence contours.
+
+    `spec`: ``{"title", "x_title", "y_title", "x", "y", "delta_chi2" (len(y) x len(x), NaN where no
+    valid model), "levels": [(probability, Δχ²)], "best": (x, y) or None, "best_name"}``. The
+    shading is capped at the largest level times 3 so the contours stay readable."""
+    levels = list(spec.get("levels", []))
+    z = np.asarray(spec["delta_chi2"], dtype=float)
+    cap = 3.0 * max((lv for _, lv in levels), default=10.0)
+    shown = np.where(np.isfinite(z), np.minimum(z, cap), np.nan)
+    grid = [[None if not np.isfinite(v) else round(float(v), 4) for v in row] for row in shown]
+    x = np.asarray(spec["x"], dtype=float).tolist()
+    y = np.asarray(spec["y"], dtype=float).tolist()
+    data = [{"type": "heatmap", "x": x, "y": y, "z": grid, "zmin": 0.0, "zmax": cap, "colorscale": "Greys",
+             "reversescale": True, "colorbar": {"title": {"text": "Δχ² [dimensionless]"}},
+             "hovertemplate": "%{x:.5g}, %{y:.5g}: Δχ² = %{z:.4g}<extra></extra>", "name": "Δχ²"}]
+    dashes = ("solid", "dash", "dot")
+    raw = [[None if not np.isfinite(v) else round(float(v), 4) for v in row] for row in z]
+    for i, (probability, level) in enumerate(levels):
+        data.append({"type": "contour", "x": x, "y": y, "z": raw, "showscale": False, "hoverinfo": "skip",
+                     "contours": {"start": level, "end": level, "size": 1.0, "coloring": "none",
+                                  "showlabels": False},
+                     "line": {"color": "#0072B2" if i == 0 else "#D55E00", "width": 2, "dash": dashes[i % 3]},
+                     "name": f"{probability:.0%} (Δχ² = {level:.2f})", "showlegend": True})
+    if spec.get("best") is not None:
+        data.append({"type": "scatter", "mode": "markers", "x": [spec["best"][0]], "y": [spec["best"][1]],
+                     "marker": {"symbol": "x", "size": 10, "color": "#000000"},
+                     "name": escape_for_figure(spec.get("best_name", "smallest χ² on the grid")),
+                     "hovertemplate": "%{x:.5g}, %{y:.5g}<extra>smallest χ² on the grid</extra>"})
+    layout = {"title": {"text": escape_for_figure(spec.get("title", "")), "x": 0.01, "font": {"size": 14}},
+              "font": FONT, "height": 480, "margin": {"l": 70, "r": 20, "t": 40, "b": 50},
+              "plot_bgcolor": "white", "legend": {"orientation": "h", "y": -0.18, "x": 0},
+              "xaxis": _axis(spec.get("x_title", ""), False), "yaxis": _axis(spec.get("y_title", ""), False)}
     return {"data": data, "layout": layout}

@@ -18,6 +18,31 @@ class _Ids:
     download_params_file = "fd-download-params-file"
     download_panel = "fd-download-panel"
     download_panel_file = "fd-download-panel-file"
+    # data panel tools (always in the page, shown on the data tab)
+    data_tools = "fd-data-tools"
+    data_upload = "fd-data-upload"
+    covariance_upload = "fd-cov-upload"
+    covariance_name = "fd-cov-name"
+    data_text = "fd-data-text"
+    data_paste = "fd-data-paste"
+    data_demo = "fd-data-demo"
+    data_message = "fd-data-message"
+    fit_slot = "fd-fit-slot"
+    fit_free = "fd-fit-free"
+    fit_run = "fd-fit-run"
+    fit_out = "fd-fit-out"
+    fit_store = "fd-fit-store"
+    fit_load = "fd-fit-load"
+    fit_load_message = "fd-fit-load-message"
+    map_x = "fd-map-x"
+    map_y = "fd-map-y"
+    map_run = "fd-map-run"
+    map_out = "fd-map-out"
+
+    @staticmethod
+    def fit_bound(name: str, end: str) -> dict:
+        """Bound input of a fit parameter: `end` is ``"low"`` or ``"high"``."""
+        return {"type": "fd-fit-bound", "key": name, "end": end}
 
     @staticmethod
     def param(slot: int, key: str) -> dict:

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from dash import dcc, html
 
+from layouts.data_panel import data_tools
 from layouts.figures import figure, small_multiples
 from layouts.ids import ids
 from layouts.tables import table
@@ -12,8 +13,8 @@ __all__ = ["page", "panel_body", "notice"]
 
 
 def page(options: dict) -> html.Div:
-    """`options`: ``{"tabs": [(value, label)], "zmax_range": str}``; cards and panels are filled by
-    callbacks from the link."""
+    """`options`: ``{"tabs": [(value, label)], "zmax_range": str, "data_tools": {...}}`` (see
+    `layouts.data_panel.data_tools`); cards and panels are filled by callbacks from the link."""
     return html.Div(className="fd-page", children=[
         dcc.Location(id=ids.url, refresh=False),
         html.Header(className="fd-header", children=[
@@ -44,6 +45,7 @@ def page(options: dict) -> html.Div:
         ]),
         dcc.Tabs(id=ids.tab, value=options["tabs"][0][0], className="fd-tabs",
                  children=[dcc.Tab(label=label, value=value) for value, label in options["tabs"]]),
+        data_tools(options["data_tools"]),
         html.Div(className="fd-panel-actions", children=[
             html.Button("this panel's numbers (CSV)", id=ids.download_panel, n_clicks=0, className="fd-button"),
             dcc.Download(id=ids.download_panel_file),

@@ -16,6 +16,7 @@ from importlib import metadata
 from flask import Blueprint, current_app, jsonify, request
 
 from server import codec, compute, data_store
+from server.cache import BudgetExceeded, cache
 
 __all__ = ["make_blueprint", "compare_payload", "API_VERSION"]
 
@@ -74,8 +75,7 @@ def compare_payload(query: str) -> tuple[dict, codec.Problem | None]:
 def _data_scores(state: codec.LinkState, resolved: list) -> dict:
     """chi^2, dof, p-value, AIC/BIC and delta chi^2 against the reference of every model."""
     stored = data_store.load(state.view.data)
-    fitted = dict([state.view.fit]) if state.view.fit else {}
-    rows = [compute.goodness(r.key, stored.hash, state.view.r_d, len(fitted.get(r.state.slot, ())))
+    rows = [compute.goodness(r.key, stored.hash, state.view.r_d, compute.fitted_count(state.view, r.state.slot))
             for r in resolved]
     ref = next(g for r, g in zip(resolved, rows) if r.state.slot == codec.reference_slot(state))
     keys = ("chi2", "dof", "p_value", "n_points", "n_parameters", "aic", "bic", "r_d", "offset")
@@ -131,6 +131,7 @@ def make_blueprint() -> Blueprint:
             "status": "ok",
             "version": _package_version(),
             "cache": current_app.config["CACHE_TYPE"],
+            "shared_cache": "ok" if getattr(cache.cache, "available", True) else "unavailable",
         })
 
     @bp.post("/api/v1/data")
@@ -163,8 +164,11 @@ def make_blueprint() -> Blueprint:
             return jsonify({"error": {"field": err.field, "message": str(err)}}), 404
         except data_store.DataError as err:
             return _error(err.field, str(err))
+        except BudgetExceeded:
+            raise  # answered by server.limits (422, field "query")
         except Exception as err:  # noqa: BLE001 - a model failure must still answer in JSON
-            current_app.logger.exception("compare failed for %r", query)
+            # the query is not logged: it holds what users typed (server.requestlog)
+            current_app.logger.exception("compare failed (%d-character query)", len(query))
             return jsonify({"error": {"field": "", "message": f"the computation failed: {err}"}}), 422
         if problem is not None:
             return _error(problem.key, problem.message)

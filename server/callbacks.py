@@ -7,18 +7,25 @@ it has the location's ``search`` as Input and Output, so Back and Forward restor
 
 from __future__ import annotations
 
+import base64
+import binascii
 import dataclasses
+import logging
 import urllib.parse
 
 from dash import ALL, MATCH, Input, Output, State, ctx, dcc, no_update
 
 from layouts.cards import card_status, model_card
+from layouts.data_panel import fit_report, map_view, messages
 from layouts.ids import ids
 from layouts.page import notice, panel_body
-from server import codec, panels
+import model
+from server import codec, data_store, panels
 from server.presets import apply_preset
 
-__all__ = ["register", "page_options", "state_from_inputs", "apply_action"]
+__all__ = ["register", "page_options", "state_from_inputs", "apply_action", "upload_bytes"]
+
+logger = logging.getLogger(__name__)
 
 
 def page_options() -> dict:
@@ -55,6 +62,8 @@ def apply_action(state: codec.LinkState, action: str, slot: int | None = None, v
     view = state.view
     if view.reference not in [m.slot for m in models] or view.reference == models[0].slot:
         view = dataclasses.replace(view, reference=None)
+    if view.fit is not None and view.fit[0] not in [m.slot for m in models]:
+        view = dataclasses.replace(view, fit=None)  # the fitted model was removed
     return codec.LinkState(models=tuple(models), view=view)
 
 
@@ -79,6 +88,26 @@ def state_from_inputs(current: codec.LinkState, params: list[tuple[dict, str]], 
         else:
             pairs[key] = str(value)
     return codec.decode(urllib.parse.urlencode(pairs, quote_via=urllib.parse.quote))
+
+
+def upload_bytes(contents: str | None, field: str) -> bytes | None:
+    """The file bytes of a `dcc.Upload` ``contents`` (``data:<type>;base64,<data>``); raises
+    `data_store.DataRejected` naming the field when it is not such a string."""
+    if contents is None:
+        return None
+    head, comma, body = str(contents).partition(",")
+    if not comma or not head.startswith("data:") or not head.endswith(";base64"):
+        raise data_store.DataRejected(field, f"{field}: the browser sent the file in a form this page cannot "
+                                             "read; choose the file again")
+    try:
+        return base64.b64decode(body, validate=True)
+    except (binascii.Error, ValueError):
+        raise data_store.DataRejected(field, f"{field}: the upload is damaged (not base64); choose the file "
+                                             "again") from None
+
+
+def _fit_bounds(items: list) -> dict:
+    return {(item["id"]["key"], item["id"]["end"]): item.get("value") for item in items}
 
 
 def _cards(state: codec.LinkState) -> list:
@@ -149,17 +178,143 @@ def register(app) -> None:
         Output(ids.notice, "children"),
         Output(ids.notice_box, "style"),
         Output(ids.copy, "content"),
+        Output(ids.data_tools, "style"),
+        Output(ids.fit_slot, "options"),
+        Output(ids.fit_slot, "value"),
         Input(ids.url, "search"),
         State(ids.url, "href"),
+        State(ids.fit_slot, "value"),
     )
-    def render(search, href):
+    def render(search, href, fit_slot):
         state = codec.decode(search or "")
         comparison = panels.compare(state)
-        body = panel_body(panels.panel(comparison))
+        try:
+            body = panel_body(panels.panel(comparison))
+        except Exception as err:  # noqa: BLE001 - one panel failing must leave the page working
+            logger.exception("panel %s failed for %r", state.view.tab, search)
+            body = panel_body({"blocks": [{"kind": "text", "class": "fd-error",
+                                           "text": f"This panel could not be drawn: {err}"}]})
         dropped = [p.message for p in state.notices]
         box = {"display": "block"} if (dropped or state.unknown) else {"display": "none"}
         base = (href or "").split("?")[0]
-        return body, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}"
+        tools = {"display": "grid"} if state.view.tab == "data" else {"display": "none"}
+        slots = state.slots()
+        return (body, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
+                _reference_options(state), fit_slot if fit_slot in slots else codec.reference_slot(state))
+
+    @app.callback(
+        Output(ids.url, "search", allow_duplicate=True),
+        Output(ids.data_message, "children"),
+        Input(ids.data_upload, "contents"),
+        Input(ids.data_paste, "n_clicks"),
+        Input(ids.data_demo, "n_clicks"),
+        State(ids.data_upload, "filename"),
+        State(ids.data_text, "value"),
+        State(ids.covariance_upload, "contents"),
+        State(ids.url, "search"),
+        prevent_initial_call=True,
+    )
+    def store_data(upload, _paste, _demo, filename, text, covariance, search):
+        trigger = ctx.triggered_id
+        state = codec.decode(search or "")
+        try:
+            if trigger == ids.data_demo:
+                new_search, message = panels.store_upload(state, data_store.demo_bytes(), None,
+                                                          data_store.DEMO_PATH.name)
+            elif trigger == ids.data_paste:
+                if not (text or "").strip():
+                    return no_update, messages([("error", "pasted table: the box is empty; paste a table with "
+                                                          "the header z,kind,value,error first")])
+                new_search, message = panels.store_upload(
+                    state, text, upload_bytes(covariance, "covariance"), "pasted table")
+            elif trigger == ids.data_upload and upload is not None:
+                new_search, message = panels.store_upload(
+                    state, upload_bytes(upload, "measurements"), upload_bytes(covariance, "covariance"),
+                    str(filename or "uploaded file"))
+            else:
+                return no_update, no_update
+        except data_store.DataError as err:
+            return no_update, messages([("error", f"Nothing was loaded. {err}")])
+        except Exception as err:  # noqa: BLE001 - a failed upload must leave the page working
+            logger.exception("storing measurements failed")
+            return no_update, messages([("error", f"Nothing was loaded: the server could not store the "
+                                                  f"table ({err.__class__.__name__})")])
+        return new_search, messages([("ok", message)])
+
+    @app.callback(
+        Output(ids.covariance_name, "children"),
+        Input(ids.covariance_upload, "filename"),
+        prevent_initial_call=True,
+    )
+    def covariance_name(filename):
+        return f"covariance file chosen: {filename}" if filename else ""
+
+    @app.callback(
+        Output(ids.fit_out, "children"),
+        Output(ids.fit_store, "data"),
+        Output(ids.fit_load, "disabled"),
+        Input(ids.fit_run, "n_clicks"),
+        State(ids.fit_slot, "value"),
+        State(ids.fit_free, "value"),
+        State(ids.fit_bound(ALL, ALL), "value"),
+        State(ids.url, "search"),
+        prevent_initial_call=True,
+    )
+    def run_fit(n_clicks, slot, free, _bounds, search):
+        if not n_clicks:
+            return no_update, no_update, no_update
+        state = codec.decode(search or "")
+        try:
+            fit = panels.fit_request(state, slot, list(free or []), _fit_bounds(ctx.states_list[2]))
+        except (panels.FitRequestError, data_store.DataError, model.ModelError) as err:
+            return messages([("error", f"No fit: {err}")]), None, True
+        except Exception as err:  # noqa: BLE001
+            logger.exception("fit failed for %r", search)
+            return messages([("error", f"No fit: the computation failed ({err})")]), None, True
+        return fit_report(panels.fit_report(fit)), fit, False
+
+    @app.callback(
+        Output(ids.url, "search", allow_duplicate=True),
+        Output(ids.fit_load_message, "children"),
+        Input(ids.fit_load, "n_clicks"),
+        State(ids.fit_store, "data"),
+        State(ids.url, "search"),
+        prevent_initial_call=True,
+    )
+    def load_fit(n_clicks, fit, search):
+        if not n_clicks or not fit:
+            return no_update, no_update
+        state = codec.decode(search or "")
+        try:
+            new = panels.state_with_fit(state, fit)
+        except panels.FitRequestError as err:
+            return no_update, messages([("error", str(err))])
+        slot = new.view.fit[0]
+        return "?" + codec.encode(new), messages([("ok", f"loaded into m{slot}; it is part of the link now")])
+
+    @app.callback(
+        Output(ids.map_out, "children"),
+        Input(ids.map_run, "n_clicks"),
+        State(ids.fit_slot, "value"),
+        State(ids.map_x, "value"),
+        State(ids.map_y, "value"),
+        State(ids.fit_bound(ALL, ALL), "value"),
+        State(ids.fit_store, "data"),
+        State(ids.url, "search"),
+        prevent_initial_call=True,
+    )
+    def run_map(n_clicks, slot, x_name, y_name, _bounds, fit, search):
+        if not n_clicks:
+            return no_update
+        state = codec.decode(search or "")
+        try:
+            result = panels.map_request(state, slot, x_name, y_name, _fit_bounds(ctx.states_list[3]), fit)
+        except (panels.FitRequestError, data_store.DataError, model.ModelError) as err:
+            return messages([("error", f"No map: {err}")])
+        except Exception as err:  # noqa: BLE001
+            logger.exception("map failed for %r", search)
+            return messages([("error", f"No map: the computation failed ({err})")])
+        return map_view(result["spec"], result["notes"])
 
     @app.callback(
         Output(ids.status(MATCH), "children"),

@@ -20,7 +20,7 @@ from server.cache import memoized
 __all__ = [
     "GRID_POINTS", "LINEAR_GRID_ZMAX", "SIGNIFICANT_DIGITS", "A_MIN", "A_MAX", "Resolved", "resolve", "resolve_all",
     "model_curves", "values_at", "round_significant", "json_ready", "survey_volume", "inverse_lookup",
-    "cosmology_for", "goodness", "fit", "chi2_grid",
+    "cosmology_for", "goodness", "fit", "chi2_grid", "fitted_count",
 ]
 
 GRID_POINTS = 400
@@ -268,6 +268,14 @@ def _measurements(digest: str) -> model.MeasurementSet:
     from server import data_store  # needs the app's cache: imported where it is used
 
     return data_store.load(digest).measurements
+
+
+def fitted_count(view: codec.ViewState, slot: int) -> int:
+    """Cosmological parameters the link's ``fit`` note says slot `slot` was fitted with (its free
+    nuisances are counted by `model.goodness_of_fit` itself)."""
+    if view.fit is None or view.fit[0] != slot:
+        return 0
+    return sum(1 for name in view.fit[1] if codec.FIT_KEYS[name] not in ("r_d", "offset"))
 
 
 @memoized

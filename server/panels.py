@@ -7,10 +7,11 @@ how it looks. Everything returned is plain data (str, float, lists, numpy arrays
 from __future__ import annotations
 
 import csv
+import dataclasses
 import io
 import json
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -22,7 +23,9 @@ from server.cache import fetch_many
 from server.presets import PRESETS
 
 __all__ = ["Comparison", "compare", "cards", "card_status", "panel", "panel_csv", "parameter_sets",
-           "page_options", "TAB_TITLES", "SYMBOLS", "unit_of"]
+           "page_options", "TAB_TITLES", "SYMBOLS", "unit_of", "measurements", "scores", "FIT_LABELS",
+           "DEFAULT_BOUNDS", "MAP_POINTS", "FitRequestError", "fit_request", "fit_report", "state_with_fit",
+           "map_request", "store_upload"]
 
 TAB_TITLES = {
     "budget": "Energy budget",
@@ -31,6 +34,7 @@ TAB_TITLES = {
     "volume": "Volume",
     "acoustic": "Acoustic scales",
     "table": "Table",
+    "data": "Data",
 }
 
 # Short symbols for evaluate() keys (column headers, hover text).
@@ -83,6 +87,7 @@ class Comparison:
     entries: list  # valid models, in slot order
     reference: Entry | None
     failures: dict  # slot -> Problem
+    extras: dict = field(default_factory=dict)  # the stored measurements and scores, looked up once
 
     def problem(self, slot: int):
         return self.failures.get(slot)
@@ -312,7 +317,14 @@ def _distances(c: Comparison) -> dict:
                 np.asarray(cv["at"]["hubble_parameter"]) / (1 + np.asarray(cv["z"])))),
             "strip": _strip(c, lambda cv: np.asarray(cv["at"]["hubble_parameter"]) / (1 + np.asarray(cv["z"])))}},
     ]
-    return {"controls": controls, "blocks": blocks + _failures_note(c)}
+    # the link's measurements on the matching plots (nothing when the link names none)
+    if choice in DISTANCE_KIND:
+        blocks[0]["spec"]["points"] = _data_points(c, DISTANCE_KIND[choice])
+    blocks[1]["spec"]["points"] = _residual_points(c, "distance_modulus")
+    blocks[3]["spec"]["points"] = _data_points(c, "hubble_parameter", lambda z, v, err: (v / (1 + z), err / (1 + z)))
+    notes = [{"kind": "text", "text": f"Measurements: {problem}", "class": "fd-error"}
+             for problem in [measurements(c)[1]] if problem]
+    return {"controls": controls, "blocks": blocks + notes + _failures_note(c)}
 
 
 def _time(c: Comparison) -> dict:
@@ -393,8 +405,11 @@ def _acoustic(c: Comparison) -> dict:
         blocks.append({"kind": "figure", "id": f"fd-fig-{key}", "spec": {
             "title": title, **_z_axis(c), "y_title": f"{sym} [dimensionless]", "y_hover": sym, "unit": "",
             "series": _curve_series(c, lambda cv, k=key: cv["bao"][k]),
-            "strip": _strip(c, lambda cv, k=key: cv["bao"][k])}})
-    return {"blocks": blocks + _failures_note(c)}
+            "strip": _strip(c, lambda cv, k=key: cv["bao"][k]),
+            "points": _data_points(c, {"dm_rd": "dm_over_rd", "dh_rd": "dh_over_rd", "dv_rd": "dv_over_rd"}[key])}})
+    notes = [{"kind": "text", "text": f"Measurements: {problem}", "class": "fd-error"}
+             for problem in [measurements(c)[1]] if problem]
+    return {"blocks": blocks + notes + _failures_note(c)}
 
 
 def table_rows(c: Comparison) -> tuple[list[str], list[list[str]]]:
@@ -453,8 +468,201 @@ def _table(c: Comparison) -> dict:
     return {"controls": controls, "blocks": blocks + _failures_note(c)}
 
 
+# ----------------------------------------------------------------------------- measurements
+
+# How each measurement kind is named on screen, and its unit as shown.
+KIND_TITLES = {
+    "distance_modulus": ("distance modulus μ", "mag"),
+    "luminosity_distance": ("luminosity distance D_L", "Mpc"),
+    "angular_diameter_distance": ("angular-diameter distance D_A", "Mpc"),
+    "comoving_distance": ("comoving distance D_C", "Mpc"),
+    "dm_over_rd": ("D_M / r_d", ""),
+    "dh_over_rd": ("D_H / r_d", ""),
+    "dv_over_rd": ("D_V / r_d", ""),
+    "hubble_parameter": ("expansion rate H(z)", "km s⁻¹ Mpc⁻¹"),
+}
+# The distances panel's distance choice -> the measurement kind drawn on it (D_M has none).
+DISTANCE_KIND = {"dl": "luminosity_distance", "da": "angular_diameter_distance", "dc": "comoving_distance"}
+DATA_COLOUR = "#222222"
+SYNTHETIC_NOTE = "synthetic demo data (made by scripts/make_demo_data.py from an invented model; not real measurements)"
+
+
+def _synthetic(stored) -> bool:
+    return stored.name == "demo_synthetic.csv" or bool(stored.measurements.label) and all(
+        t.lower().startswith("synthetic") for t in stored.measurements.label)
+
+
+def measurements(c: Comparison):
+    """``(StoredData, None)``, ``(None, message)`` when the link's set cannot be loaded, or
+    ``(None, None)`` when the link names none. Looked up once per comparison."""
+    if "stored" not in c.extras:
+        digest = c.state.view.data
+        if digest is None or "data" in dict(c.state.view.invalid):
+            problem = next((p.message for p in c.state.view.problems() if p.key == "data"), None)
+            c.extras["stored"] = (None, problem)
+        else:
+            from server import data_store
+            try:
+                c.extras["stored"] = (data_store.load(digest), None)
+            except data_store.DataError as err:
+                c.extras["stored"] = (None, str(err))
+    return c.extras["stored"]
+
+
+def scores(c: Comparison) -> dict:
+    """slot -> `compute.goodness` result plus ``delta_chi2`` against the reference; models that
+    cannot be scored get ``{"error": message}``."""
+    if "scores" in c.extras:
+        return c.extras["scores"]
+    stored, _ = measurements(c)
+    out = {}
+    if stored is not None and c.entries:
+        view = c.state.view
+        results = fetch_many(compute.goodness, [(_key_of(c, e.slot), stored.hash, view.r_d,
+                                                 compute.fitted_count(view, e.slot)) for e in c.entries],
+                             return_exceptions=True)
+        for e, result in zip(c.entries, results):
+            out[e.slot] = {"error": f"m{e.slot}: could not be scored: {result}"} if isinstance(
+                result, Exception) else dict(result)
+        ref = out.get(c.reference.slot, {}) if c.reference else {}
+        for result in out.values():
+            if "chi2" in result:
+                result["delta_chi2"] = result["chi2"] - ref.get("chi2", math.nan)
+    c.extras["scores"] = out
+    return out
+
+
+def _kind_rows(stored, kind):
+    return np.flatnonzero(stored.measurements.kind == kind)
+
+
+def _data_points(c: Comparison, kind: str, transform=None, name: str | None = None) -> list[dict]:
+    """The measurements of one kind as a points spec (value and error, optionally transformed as
+    ``transform(z, value, error) -> (value, error)``), limited to the drawn redshift range."""
+    stored, _ = measurements(c)
+    if stored is None:
+        return []
+    rows = _kind_rows(stored, kind)
+    rows = rows[stored.measurements.z[rows] <= c.state.view.zmax]
+    if rows.size == 0:
+        return []
+    d = stored.measurements
+    z, value, error = d.z[rows], d.value[rows], d.error[rows]
+    if transform is not None:
+        value, error = transform(z, value, error)
+    title = KIND_TITLES[kind][0]
+    prefix = "synthetic data" if _synthetic(stored) else "data"
+    return [{"name": name or f"{prefix}: {title} ({rows.size})", "x": z, "y": value, "error": error,
+             "text": [d.label[i] for i in rows], "colour": DATA_COLOUR, "size": 5}]
+
+
+def _residual_points(c: Comparison, kind: str) -> list[dict]:
+    """Δμ plot: the supernova moduli minus the reference model's prediction (its best offset)."""
+    stored, _ = measurements(c)
+    if stored is None or c.reference is None:
+        return []
+    ref = scores(c).get(c.reference.slot, {})
+    if "residual" not in ref:
+        return []
+    rows = _kind_rows(stored, kind)
+    rows = rows[stored.measurements.z[rows] <= c.state.view.zmax]
+    if rows.size == 0:
+        return []
+    d = stored.measurements
+    prefix = "synthetic data" if _synthetic(stored) else "data"
+    return [{"name": f"{prefix} − {c.reference.name} (offset M = {number(ref['offset'], 4)} mag)",
+             "x": d.z[rows], "y": np.asarray(ref["residual"])[rows], "error": d.error[rows],
+             "text": [d.label[i] for i in rows], "colour": DATA_COLOUR, "size": 5}]
+
+
+def _score_table(c: Comparison) -> dict:
+    results = scores(c)
+    with_ic = c.state.view.fit is not None
+    ref_name = c.reference.name if c.reference else "reference"
+    header = ["model", "χ² [dimensionless]", "degrees of freedom", "p-value", f"Δχ² vs {ref_name}",
+              "free parameters k"] + (["AIC [dimensionless]", "BIC [dimensionless]"] if with_ic else []) + [
+              "r_d used [Mpc]", "supernova offset M [mag]"]
+    rows = []
+    for e in c.entries:
+        r = results.get(e.slot, {})
+        if "chi2" not in r:
+            rows.append([e.name, r.get("error", "–")] + ["–"] * (len(header) - 2))
+            continue
+        row = [e.name, number(r["chi2"], 6), str(r["dof"]), number(r["p_value"], 3),
+               number(r["delta_chi2"], 5), str(r["n_parameters"])]
+        if with_ic:
+            row += [number(r["aic"], 6), number(r["bic"], 6)]
+        row += [with_unit(r["r_d"], "Mpc", 6), with_unit(r["offset"], "mag", 4)]
+        rows.append(row)
+    return {"kind": "table", "title": "Goodness of fit", "header": header, "rows": rows,
+            "colours": [None] * len(header)}
+
+
+def _residual_figures(c: Comparison) -> list[dict]:
+    stored, _ = measurements(c)
+    results = scores(c)
+    d = stored.measurements
+    blocks = []
+    for kind in d.kinds_present:
+        rows = _kind_rows(stored, kind)
+        title, unit = KIND_TITLES[kind]
+        unit_text = unit or "dimensionless"
+        points, pulls = [], []
+        for e in c.entries:
+            r = results.get(e.slot, {})
+            if "residual" not in r:
+                continue
+            labels = [d.label[i] for i in rows]
+            points.append({"name": e.name, "slot": e.slot, "x": d.z[rows], "y": np.asarray(r["residual"])[rows],
+                           "error": d.error[rows], "text": labels, "group": f"slot{e.slot}"})
+            pulls.append({"mode": "markers", "name": e.name, "slot": e.slot, "x": d.z[rows],
+                          "y": np.asarray(r["pull"])[rows], "text": labels, "showlegend": False,
+                          "group": f"slot{e.slot}", "y_hover": "pull"})
+        z = d.z[rows]
+        blocks.append({"kind": "figure", "id": f"fd-fig-residual-{kind}", "spec": {
+            "title": f"Residuals of {title} ({rows.size} measurements): data − model, and pulls",
+            "x_title": "redshift z [dimensionless]", "x_hover": "z",
+            "x_log": bool(z.size and z.min() > 0 and z.max() / z.min() > 20),
+            "y_title": f"data − model [{unit_text}]", "y_hover": "data − model", "unit": unit,
+            "series": [], "points": points,
+            "strip": {"y_title": "pull [σ]", "series": pulls, "unit": "σ"}}})
+    return blocks
+
+
+def _data(c: Comparison) -> dict:
+    stored, problem = measurements(c)
+    controls = [{"key": "rd", "kind": "dropdown", "label": "sound horizon r_d for the D/r_d measurements",
+                 "value": c.state.view.r_d, "options": [
+                     {"label": "each model's own r_drag", "value": "model"},
+                     {"label": "free (minimised for each model)", "value": "free"}]}]
+    if stored is None:
+        text = problem or ("No measurements in this link yet: upload or paste a table above, or load the "
+                           "synthetic demo data.")
+        return {"controls": controls, "blocks": [{"kind": "text", "text": text,
+                                                  "class": "fd-error" if problem else "fd-note"}]}
+    d = stored.measurements
+    counts = ", ".join(f"{int(np.sum(d.kind == k))} {KIND_TITLES[k][0]}" for k in d.kinds_present)
+    source = {"file": "covariance file", "pairs": "errors and correlated pairs", "diagonal": "errors only"}
+    about = (f"Measurement set data={stored.hash}" + (f" ({stored.name})" if stored.name else "") +
+             f": {len(d)} rows ({counts}); covariance from {source[d.covariance_source]}.")
+    blocks = []
+    if _synthetic(stored):
+        blocks.append({"kind": "text", "text": "These are " + SYNTHETIC_NOTE + ".", "class": "fd-error"})
+    blocks += [
+        {"kind": "text", "text": about},
+        {"kind": "text", "text": (
+            "χ² = rᵀC⁻¹r with the full covariance; the supernova offset M is marginalised analytically "
+            "(Goliath et al. 2001; Conley et al. 2011), r_d is each model's own or minimised. The p-value is "
+            "P(χ²_dof ≥ χ²); Δχ² is against the reference model. AIC = χ² + 2k and BIC = χ² + k ln N are "
+            "shown once a fit with free parameters is in the link.")},
+        _score_table(c),
+    ]
+    blocks += _residual_figures(c)
+    return {"controls": controls, "blocks": blocks + _failures_note(c)}
+
+
 _BUILDERS = {"budget": _budget, "distances": _distances, "time": _time, "volume": _volume,
-             "acoustic": _acoustic, "table": _table}
+             "acoustic": _acoustic, "table": _table, "data": _data}
 
 
 def panel(c: Comparison, tab: str | None = None) -> dict:
@@ -486,6 +694,8 @@ def panel_csv(c: Comparison, tab: str | None = None) -> str:
                 (f"{spec['title']} / {p['title']}", p["series"]) for p in spec["panels"]]
             if block["kind"] == "figure" and spec.get("strip"):
                 groups.append((f"{spec['title']} / {spec['strip']['y_title']}", spec["strip"]["series"]))
+            if block["kind"] == "figure" and spec.get("points"):
+                groups.append((f"{spec['title']} / measurements", spec["points"]))
             writer.writerow([f"# figure: {spec['title']}"])
             writer.writerow(["curve", "series", x_title, y_title])
             for title, series in groups:
@@ -512,4 +722,223 @@ def parameter_sets(c: Comparison) -> str:
 
 def page_options() -> dict:
     return {"tabs": list(TAB_TITLES.items()),
-            "zmax_range": f"0.01 ≤ z_max ≤ {codec.Z_MAX:g}"}
+            "zmax_range": f"0.01 ≤ z_max ≤ {codec.Z_MAX:g}",
+            "data_tools": data_tool_options()}
+
+
+# ----------------------------------------------------------------------------- data tools
+
+FIT_LABELS = {"h0": "H₀", "omega_m": "Ω_m", "omega_k": "Ω_k", "w0": "w₀", "wa": "w_a",
+              "r_d": "r_d (nuisance)", "offset": "supernova offset M (nuisance)"}
+# Bounds the page proposes: wide enough for any model people compare here, narrow enough for a
+# readable 60 x 60 map (judgement, no source). The model accepts any within FIT_PARAMETERS.
+DEFAULT_BOUNDS = {"h0": (50.0, 90.0), "omega_m": (0.05, 0.7), "omega_k": (-0.3, 0.3), "w0": (-2.0, -0.3),
+                  "wa": (-3.0, 2.0), "r_d": (120.0, 180.0), "offset": (-2.0, 2.0)}
+MAP_POINTS = 60
+_LINK_NAME = {v: k for k, v in codec.FIT_KEYS.items()}
+
+
+class FitRequestError(ValueError):
+    """A fit or map request from the page cannot be run; the message names the field."""
+
+
+def _fit_unit(name: str) -> str:
+    return model.FIT_PARAMETERS[name][0]
+
+
+def _range_text(name: str) -> str:
+    unit, low, high = model.FIT_PARAMETERS[name]
+    return f"accepted {low:g} to {high:g}" + (f" {unit}" if unit else "")
+
+
+def data_tool_options() -> dict:
+    from server import data_store
+
+    limits = data_store.LIMITS
+    return {
+        "format": ("One row per measurement: a header line naming the columns z, kind, value, error (required) "
+                   "and label, z_helio, group, correlation (optional), then comma-separated rows; kinds: "
+                   + ", ".join(model.MEASUREMENT_KINDS) + ". Full description: docs/measurements-format.md."),
+        "placeholder": "z,kind,value,error,label\n0.51,dm_over_rd,13.6,0.25,my survey z=0.51\n"
+                       "0.8,hubble_parameter,95,9,my H(z) point",
+        "limits": (f"Limits: measurement file ≤ {limits.max_bytes} bytes, ≤ {limits.max_rows} rows, cells ≤ "
+                   f"{limits.max_cell_chars} characters; covariance file ≤ {limits.max_covariance_bytes} bytes. "
+                   "The data are stored on this server under their content hash and named in the link; stored "
+                   "sets expire."),
+        "demo_label": "load demo data (synthetic)",
+        "parameters": [{"name": n, "label": FIT_LABELS[n], "unit": _fit_unit(n), "low": codec.format_number(lo),
+                        "high": codec.format_number(hi), "range": _range_text(n)}
+                       for n, (lo, hi) in DEFAULT_BOUNDS.items()],
+        "default_free": ["omega_m", "w0"],
+        "map_default": ("omega_m", "w0"),
+    }
+
+
+def store_upload(state: codec.LinkState, measurements, covariance=None, name: str = "") -> tuple[str, str]:
+    """Store an upload and return ``(new search, message)``; raises `data_store.DataError`."""
+    from server import data_store
+
+    stored = data_store.store(measurements, covariance, name)
+    view = dataclasses.replace(state.view, data=stored.hash, tab="data",
+                               invalid=tuple((k, v) for k, v in state.view.invalid if k != "data"))
+    d = stored.measurements
+    what = SYNTHETIC_NOTE if _synthetic(stored) else (stored.name or "your table")
+    message = (f"Stored {len(d)} measurements from {what} as data={stored.hash}; the link now carries it.")
+    return "?" + codec.encode(dataclasses.replace(state, view=view)), message
+
+
+def parse_bounds(free: list[str], bounds: dict) -> tuple[tuple[str, float, float], ...]:
+    """``((name, low, high), ...)`` from the page's bound inputs ``{(name, "low"|"high"): text}``
+    (empty text: the page's default bound); raises `FitRequestError` naming the field."""
+    out = []
+    for name in free:
+        if name not in model.FIT_PARAMETERS:
+            raise FitRequestError(f"free parameters: {name!r} is unknown; expected some of "
+                                  f"{', '.join(model.FIT_PARAMETERS)}")
+        ends = []
+        unit, low_ok, high_ok = model.FIT_PARAMETERS[name]
+        for i, end in enumerate(("low", "high")):
+            text = str(bounds.get((name, end)) or "").strip()
+            if not text:
+                ends.append(DEFAULT_BOUNDS[name][i])
+                continue
+            value = codec._parse_number(text)  # the link's own number rule: plain decimals, finite
+            label = f"{FIT_LABELS[name]} {'lower' if end == 'low' else 'upper'} bound"
+            if isinstance(value, str):
+                raise FitRequestError(f"{label}: {value}; expected a number, {_range_text(name)}")
+            if not low_ok <= value <= high_ok:
+                raise FitRequestError(f"{label}: {codec.format_number(value)} is out of range; expected "
+                                      f"{_range_text(name)}")
+            ends.append(value)
+        if not ends[0] < ends[1]:
+            raise FitRequestError(f"{FIT_LABELS[name]} bounds: the lower bound {codec.format_number(ends[0])} "
+                                  f"must be below the upper bound {codec.format_number(ends[1])}")
+        out.append((name, float(ends[0]), float(ends[1])))
+    return tuple(out)
+
+
+def _slot_for_fit(state: codec.LinkState, slot):
+    stored_hash = state.view.data
+    if stored_hash is None or "data" in dict(state.view.invalid):
+        raise FitRequestError("data: no measurements in the link; upload or paste a table, or load the "
+                              "synthetic demo data, first")
+    m = next((x for x in state.models if x.slot == slot), None)
+    if m is None:
+        raise FitRequestError(f"start model: m{slot} is not in the link; choose one of "
+                              f"{', '.join(f'm{s}' for s in state.slots())}")
+    resolved = compute.resolve(m)
+    if resolved.problem is not None:
+        raise FitRequestError(f"start model m{slot} is not valid: {resolved.problem.message}")
+    return m, resolved
+
+
+def fit_request(state: codec.LinkState, slot, free: list[str], bounds: dict) -> dict:
+    """Run a quick fit from the page; returns the stored fit (plain data). Raises
+    `FitRequestError` (bad request), `data_store.DataError` (data gone) or `model.FitError`."""
+    if not free:
+        raise FitRequestError("free parameters: choose at least one to fit")
+    if len(free) > 7:
+        raise FitRequestError("free parameters: at most the seven offered")
+    m, resolved = _slot_for_fit(state, slot)
+    from server import data_store
+
+    data_store.load(state.view.data)  # a clear message when the set has expired
+    ordered = [n for n in model.FIT_PARAMETERS if n in free]
+    spec = parse_bounds(ordered, bounds)
+    result = compute.fit(resolved.key, state.view.data, spec, state.view.r_d)
+    return {"slot": m.slot, "name": m.name, "data": state.view.data, "r_d_mode": state.view.r_d,
+            "bounds": [list(b) for b in spec], **result}
+
+
+def fit_report(fit: dict) -> dict:
+    """Text tables of a fit's best values, 1σ errors and correlations."""
+    names = fit["names"]
+    rows = []
+    bounds = {b[0]: b[1:] for b in fit["bounds"]}
+    for name, value, error in zip(names, fit["values"], fit["errors"]):
+        unit = _fit_unit(name)
+        rows.append([FIT_LABELS[name] + (f" [{unit}]" if unit else " [dimensionless]"), number(value, 6),
+                     number(error, 3), f"{number(bounds[name][0], 4)} to {number(bounds[name][1], 4)}",
+                     "yes: error not meaningful" if name in fit["at_bound"] else "no"])
+    symbols = [FIT_LABELS[n].split(" (")[0] for n in names]
+    correlation_rows = [[symbols[i]] + [number(v, 3) for v in row] for i, row in enumerate(fit["correlation"])] \
+        if len(names) > 1 else []
+    r_d_text = with_unit(fit["r_d"], "Mpc", 6) + (" (fitted)" if "r_d" in names else
+                                                  " (minimised)" if fit["r_d_mode"] == "free" else " (model's)")
+    summary = [
+        f"χ²_min = {number(fit['chi2_min'], 6)} [dimensionless] with {fit['dof']} degrees of freedom "
+        f"(p-value {number(fit['p_value'], 3)}); k = {fit['n_parameters']} free parameters: "
+        f"AIC = {number(fit['aic'], 6)}, BIC = {number(fit['bic'], 6)}.",
+        f"r_d = {r_d_text}; supernova offset M = {with_unit(fit['offset'], 'mag', 4)}.",
+        f"Optimiser: {fit['n_evaluations']} residual evaluations; {fit['message']}",
+    ]
+    warnings = [] if fit["success"] else ["The optimiser did not report convergence; treat the numbers with care."]
+    if fit["at_bound"]:
+        warnings.append("On a bound: " + ", ".join(FIT_LABELS[n] for n in fit["at_bound"])
+                        + "; widen the bounds and fit again.")
+    return {"title": f"Best fit of {', '.join(symbols)} starting from m{fit['slot']}: {fit['name']}",
+            "header": ["parameter [unit]", "best fit", "1σ error", "bounds", "on a bound"], "rows": rows,
+            "correlation_header": [""] + symbols, "correlation_rows": correlation_rows,
+            "summary": summary, "warnings": warnings}
+
+
+def state_with_fit(state: codec.LinkState, fit: dict) -> codec.LinkState:
+    """The link with the fit loaded into the lowest free slot (and the ``fit`` note naming it);
+    raises `FitRequestError` when every slot is taken or the start model is gone."""
+    free_slots = [n for n in range(1, codec.MAX_SLOTS + 1) if n not in state.slots()]
+    if not free_slots:
+        raise FitRequestError(f"load: all {codec.MAX_SLOTS} slots are taken; remove a model first")
+    source = next((m for m in state.models if m.slot == fit["slot"]), None)
+    if source is None:
+        raise FitRequestError(f"load: the start model m{fit['slot']} is no longer in the link; fit again")
+    cosmological = {k: float(compute.round_significant(v, 7)) for k, v in fit["cosmology"].items()
+                    if k in fit["names"]}
+    changes = dict(cosmological)
+    if "omega_k" in changes:
+        changes["omega_de"] = None  # the fitted curvature is the input now
+    label = f"{source.name} best fit ({', '.join(_LINK_NAME[n] for n in fit['names'])})"[:codec.MAX_LABEL_LENGTH]
+    new = dataclasses.replace(source, slot=free_slots[0], label=label, invalid=(), **changes)
+    note = (new.slot, tuple(n for n in codec.FIT_KEYS if codec.FIT_KEYS[n] in fit["names"]))
+    view = dataclasses.replace(state.view, fit=note)
+    models = tuple(sorted(state.models + (new,), key=lambda m: m.slot))
+    return codec.decode(codec.encode(codec.LinkState(models=models, view=view)))
+
+
+def map_request(state: codec.LinkState, slot, x_name, y_name, bounds: dict, fit: dict | None) -> dict:
+    """A Δχ² map spec for `layouts.figures.chi2_map_figure` (plus notes); the grid spans the
+    bound inputs, or the last fit's best value ± 5σ when that fit varied both parameters."""
+    if x_name == y_name:
+        raise FitRequestError(f"map: x and y are both {FIT_LABELS.get(x_name, x_name)}; choose two different "
+                              "parameters")
+    m, resolved = _slot_for_fit(state, slot)
+    from server import data_store
+
+    data_store.load(state.view.data)
+    (xb, yb) = parse_bounds([x_name, y_name], bounds)
+    notes = []
+    if fit and fit.get("slot") == m.slot and fit.get("data") == state.view.data and \
+            {x_name, y_name} <= set(fit["names"]):
+        spans = []
+        for name, (_, low, high) in ((x_name, xb), (y_name, yb)):
+            i = fit["names"].index(name)
+            centre, sigma = fit["values"][i], fit["errors"][i]
+            if math.isfinite(sigma) and sigma > 0:
+                _, low_ok, high_ok = model.FIT_PARAMETERS[name]
+                low, high = max(low_ok, centre - 5 * sigma), min(high_ok, centre + 5 * sigma)
+            spans.append((name, low, high))
+        xb, yb = spans
+        notes.append("Grid: the last fit's best value ± 5σ in each parameter; the other parameters at the start "
+                     f"model m{m.slot}'s values, so the map is a slice through the best fit only where those agree.")
+    grid = compute.chi2_grid(resolved.key, state.view.data, xb, yb, MAP_POINTS, state.view.r_d)
+
+    def title(name):
+        unit = _fit_unit(name)
+        return f"{FIT_LABELS[name]} [{unit or 'dimensionless'}]"
+    best = grid["best"]
+    notes.append(f"Smallest χ² on the grid: {number(grid['chi2_min'], 6)} [dimensionless] at "
+                 f"{FIT_LABELS[x_name]} = {with_unit(best[x_name], _fit_unit(x_name), 5)}, "
+                 f"{FIT_LABELS[y_name]} = {with_unit(best[y_name], _fit_unit(y_name), 5)}.")
+    return {"spec": {"title": f"Δχ² for m{m.slot}: {m.name}", "x_title": title(x_name), "y_title": title(y_name),
+                     "x": grid["x"], "y": grid["y"], "delta_chi2": grid["delta_chi2"],
+                     "levels": [tuple(level) for level in grid["levels"]],
+                     "best": (best[x_name], best[y_name])}, "notes": notes}

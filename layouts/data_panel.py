@@ -1,0 +1,121 @@
+"""The data panel's tools (upload, paste, demo, quick fit, Δχ² map) and their reports, from plain data.
+
+The tools stay in the page (shown on the data tab only), so a fit's report survives the link
+changes it causes; the χ² table and residual plots are panel blocks built by `server.panels`.
+Everything a user typed or uploaded is shown as text (components), never as markup.
+"""
+
+from __future__ import annotations
+
+from dash import dcc, html
+
+from layouts.figures import chi2_map_figure
+from layouts.ids import ids
+from layouts.tables import table
+
+__all__ = ["data_tools", "fit_report", "map_view", "messages"]
+
+
+def _bound_inputs(p: dict) -> html.Div:
+    unit = f" [{p['unit']}]" if p.get("unit") else ""
+    return html.Div(className="fd-fit-param", children=[
+        html.Span(f"{p['label']}{unit}", className="fd-fit-name"),
+        dcc.Input(id=ids.fit_bound(p["name"], "low"), type="text", value=p["low"], debounce=False,
+                  className="fd-input fd-short", placeholder="low"),
+        html.Span("to"),
+        dcc.Input(id=ids.fit_bound(p["name"], "high"), type="text", value=p["high"], debounce=False,
+                  className="fd-input fd-short", placeholder="high"),
+        html.Small(p["range"], className="fd-range"),
+    ])
+
+
+def data_tools(options: dict) -> html.Div:
+    """`options`: ``{"format": str, "limits": str, "demo_label": str, "parameters": [{"name",
+    "label", "unit", "low", "high", "range"}], "default_free": [names], "map_default": (x, y)}``."""
+    params = options["parameters"]
+    choices = [{"label": f"{p['label']}" + (f" [{p['unit']}]" if p.get("unit") else ""), "value": p["name"]}
+               for p in params]
+    return html.Div(id=ids.data_tools, className="fd-data-tools", style={"display": "none"}, children=[
+        html.Section(className="fd-data-box", children=[
+            html.H3("Measurements"),
+            html.P(options["format"], className="fd-note"),
+            html.Div(className="fd-data-row", children=[
+                dcc.Upload(id=ids.data_upload, className="fd-upload", multiple=False,
+                           children=html.Div("measurement file (CSV): drop it here or click to choose")),
+                dcc.Upload(id=ids.covariance_upload, className="fd-upload fd-upload-small", multiple=False,
+                           children=html.Div("optional covariance file: drop or click (choose it first)")),
+                html.Span(id=ids.covariance_name, className="fd-note"),
+            ]),
+            dcc.Textarea(id=ids.data_text, className="fd-data-text", placeholder=options["placeholder"],
+                         spellCheck=False),
+            html.Div(className="fd-data-row", children=[
+                html.Button("use the pasted table", id=ids.data_paste, n_clicks=0, className="fd-button"),
+                html.Button(options["demo_label"], id=ids.data_demo, n_clicks=0, className="fd-button"),
+            ]),
+            html.Small(options["limits"], className="fd-range"),
+            html.Div(id=ids.data_message, className="fd-data-message", role="status"),
+        ]),
+        html.Section(className="fd-data-box", children=[
+            html.H3("Quick fit"),
+            html.Div(className="fd-data-row", children=[
+                html.Label("start from model", htmlFor=ids.fit_slot),
+                dcc.Dropdown(id=ids.fit_slot, options=[], value=None, clearable=False, searchable=False,
+                             className="fd-fit-slot"),
+            ]),
+            html.Label("free parameters (the others keep the model's values) and their bounds",
+                       className="fd-control-label"),
+            dcc.Checklist(id=ids.fit_free, options=choices, value=list(options["default_free"]), inline=True,
+                          className="fd-fit-free"),
+            html.Div([_bound_inputs(p) for p in params], className="fd-fit-bounds"),
+            html.Div(className="fd-data-row", children=[
+                html.Button("fit", id=ids.fit_run, n_clicks=0, className="fd-button"),
+                html.Button("load the fit into a free slot", id=ids.fit_load, n_clicks=0, disabled=True,
+                            className="fd-button"),
+                html.Span(id=ids.fit_load_message, className="fd-note"),
+            ]),
+            dcc.Store(id=ids.fit_store, data=None),
+            dcc.Loading(html.Div(id=ids.fit_out, className="fd-fit-out"), type="dot", delay_show=300),
+        ]),
+        html.Section(className="fd-data-box", children=[
+            html.H3("Δχ² map of two parameters"),
+            html.P("On a 60 × 60 grid spanning the two parameters' bounds above; every other parameter keeps "
+                   "the chosen model's value (not minimised over). Contours: 68 % and 95 % joint regions of two "
+                   "parameters, Δχ² = 2.30 and 6.18.", className="fd-note"),
+            html.Div(className="fd-data-row", children=[
+                html.Label("x", htmlFor=ids.map_x),
+                dcc.Dropdown(id=ids.map_x, options=choices, value=options["map_default"][0], clearable=False,
+                             searchable=False, className="fd-fit-slot"),
+                html.Label("y", htmlFor=ids.map_y),
+                dcc.Dropdown(id=ids.map_y, options=choices, value=options["map_default"][1], clearable=False,
+                             searchable=False, className="fd-fit-slot"),
+                html.Button("draw the map", id=ids.map_run, n_clicks=0, className="fd-button"),
+            ]),
+            dcc.Loading(html.Div(id=ids.map_out), type="dot", delay_show=300),
+        ]),
+    ])
+
+
+def messages(items: list[tuple[str, str]]) -> list:
+    """``[(kind, text)]`` with kind ``"error"`` or ``"ok"`` as text paragraphs."""
+    return [html.Div(text, className="fd-error" if kind == "error" else "fd-ok",
+                     role="alert" if kind == "error" else None) for kind, text in items]
+
+
+def fit_report(report: dict) -> list:
+    """`report`: ``{"title", "header", "rows", "correlation_header", "correlation_rows", "summary":
+    [str], "warnings": [str]}`` (all text)."""
+    out = [html.H4(report["title"], className="fd-fit-title"),
+           table(report["header"], report["rows"])]
+    for line in report["summary"]:
+        out.append(html.P(line, className="fd-fit-summary"))
+    if report.get("correlation_rows"):
+        out.append(html.H4("Correlations (from the Jacobian at the best fit) [dimensionless]"))
+        out.append(table(report["correlation_header"], report["correlation_rows"]))
+    out.extend(html.Div(w, className="fd-error", role="alert") for w in report.get("warnings", []))
+    return out
+
+
+def map_view(spec: dict, notes: list[str]) -> list:
+    return [dcc.Graph(id="fd-fig-chi2-map", figure=chi2_map_figure(spec), className="fd-graph",
+                      config={"displaylogo": False, "toImageButtonOptions": {"format": "png"}})] + [
+        html.P(n, className="fd-fit-summary") for n in notes]
