@@ -3,18 +3,42 @@
 from __future__ import annotations
 
 import gc
-import os
+import logging
 from pathlib import Path
 
 import dash
 from flask import Flask
+from flask.logging import default_handler
 
-from server.cache import cache, code_fingerprint
-from server.config import ENV_PREFIX, default_config, normalise_prefix
+from server.cache import cache, code_fingerprint, guard_backend, writable_folder
+from server.config import ENV_PREFIX, default_config, normalise_prefix, redis_options
+from server.headers import SecurityHeaders, content_security_policy, security_headers
+from server.limits import install_limits
+from server.requestlog import RedactingFormatter, RequestLog
 
 __all__ = ["create_app", "settle_heap"]
 
 ASSETS = Path(__file__).resolve().parent.parent / "layouts" / "assets"
+_FILE_CACHES = ("FileSystemCache", "flask_caching.backends.FileSystemCache",
+                "flask_caching.backends.filesystemcache.FileSystemCache")
+_REDIS_CACHES = ("RedisCache", "flask_caching.backends.RedisCache",
+                 "flask_caching.backends.rediscache.RedisCache")
+
+logger = logging.getLogger(__name__)
+
+
+def _choose_cache(config) -> None:
+    """A FileSystemCache folder that cannot be written means an in-process cache (one warning);
+    a RedisCache without client options gets short timeouts."""
+    if config["CACHE_TYPE"] in _FILE_CACHES:
+        reason = writable_folder(config["CACHE_DIR"])
+        if reason is not None:
+            logger.warning("cache folder is not writable (%s); using an in-process cache instead. "
+                           "Set FDESK_CACHE_DIR to a writable folder to share results between workers",
+                           reason)
+            config["CACHE_TYPE"] = "SimpleCache"
+    elif config["CACHE_TYPE"] in _REDIS_CACHES and not config.get("CACHE_OPTIONS"):
+        config["CACHE_OPTIONS"] = redis_options()
 
 
 def create_app(config: dict | None = None) -> dash.Dash:
@@ -22,7 +46,8 @@ def create_app(config: dict | None = None) -> dash.Dash:
 
     Configuration order: `server.config.default_config`, then ``FDESK_*`` environment
     variables, then `config`. ``URL_PREFIX`` serves the page, the API and ``/healthz`` under a
-    path such as ``/cosmo/``.
+    path such as ``/cosmo/``. Dash's debug mode and dev tools stay off (only
+    ``python -m server --debug`` turns them on).
     """
     flask_app = Flask("server")
     flask_app.config.update(default_config())
@@ -31,13 +56,15 @@ def create_app(config: dict | None = None) -> dash.Dash:
     prefix = normalise_prefix(flask_app.config["URL_PREFIX"])
     flask_app.config["URL_PREFIX"] = prefix
     flask_app.config.setdefault("CACHE_KEY_PREFIX", f"fdesk-{code_fingerprint()}-")
-    if flask_app.config["CACHE_TYPE"] in ("FileSystemCache", "flask_caching.backends.FileSystemCache"):
-        os.makedirs(flask_app.config["CACHE_DIR"], exist_ok=True)
+    _choose_cache(flask_app.config)
     cache.init_app(flask_app)
+    guard_backend(flask_app)
+    default_handler.setFormatter(RedactingFormatter("[%(asctime)s] %(levelname)s in %(module)s: %(message)s"))
 
     from server import api, callbacks  # deferred: they import the model
     from layouts.page import page
 
+    install_limits(flask_app)
     flask_app.register_blueprint(api.make_blueprint(), url_prefix=prefix.rstrip("/") or None)
     app = dash.Dash(
         "server",
@@ -50,6 +77,8 @@ def create_app(config: dict | None = None) -> dash.Dash:
     )
     app.layout = page(callbacks.page_options())
     callbacks.register(app)
+    csp = content_security_policy(app.csp_hashes(), flask_app.config["FRAME_ANCESTORS"])
+    flask_app.wsgi_app = RequestLog(SecurityHeaders(flask_app.wsgi_app, security_headers(csp)))
     return app
 
 

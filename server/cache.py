@@ -6,6 +6,15 @@ and puts a small in-process LRU in front of it: a cached page update then reads 
 results from memory instead of unpickling a file per lookup. `fetch_many` gets every model's
 result for one update with a single `get_many`. Keys are the function's qualified name and the
 repr of its (canonical, hashable) arguments, under the app's `CACHE_KEY_PREFIX`.
+
+`GuardedBackend` wraps the shared backend so that a Redis server that is down (at start or
+mid-run) or a cache folder that cannot be written never fails a request: the results then go to
+an in-process cache, one warning is logged per outage, and the shared backend is tried again
+every `CACHE_RETRY_SECONDS`. Each request's lookups are counted (`request_cache_status`) for the
+request log and the ``X-Fdesk-Cache`` response header.
+
+The shared backends store pickled values: only results this server computed are ever pickled
+or unpickled, never anything a client sends.
 """
 
 from __future__ import annotations
@@ -16,15 +25,20 @@ import hashlib
 import logging
 import os
 import queue
+import tempfile
 import threading
+import time
 import weakref
 from pathlib import Path
 from typing import Any, Callable, Iterable
 
 import numpy as np
+from flask import has_request_context, request
 from flask_caching import Cache
+from flask_caching.backends import SimpleCache
 
-__all__ = ["cache", "code_fingerprint", "memoized", "fetch_many", "flush_writes", "FRONT_ENTRIES"]
+__all__ = ["cache", "code_fingerprint", "memoized", "fetch_many", "flush_writes", "FRONT_ENTRIES",
+           "GuardedBackend", "guard_backend", "writable_folder", "request_cache_status", "BudgetExceeded"]
 
 logger = logging.getLogger(__name__)
 
@@ -104,24 +118,67 @@ def memoized(fn: Callable) -> Callable:
     return wrapper
 
 
+class BudgetExceeded(Exception):
+    """The request has used its computation time (``REQUEST_BUDGET_SECONDS``): what it has
+    computed so far stays cached, the rest is refused (`server.limits` answers 422)."""
+
+    def __init__(self, budget: float):
+        super().__init__(f"this request needs more than its {budget:g} s computation budget")
+        self.budget = budget
+
+
+_COUNTS = "fdesk.cache"  # request environ key: {"local": n, "shared": n, "computed": n}
+_DEADLINE = "fdesk.deadline"  # request environ key: (monotonic deadline, budget in s)
+
+
+def _count(kind: str, n: int) -> None:
+    if n and has_request_context():
+        counts = request.environ.setdefault(_COUNTS, {"local": 0, "shared": 0, "computed": 0})
+        counts[kind] += n
+
+
+def request_cache_status(environ: dict) -> str:
+    """``hit`` (everything from a cache; ``hit-shared`` when some came from the shared backend,
+    i.e. another worker or host computed it), ``miss`` (something was computed) or ``-`` (no
+    model looked up)."""
+    counts = environ.get(_COUNTS)
+    if not counts or not any(counts.values()):
+        return "-"
+    if counts["computed"]:
+        return "miss"
+    return "hit-shared" if counts["shared"] else "hit"
+
+
+def _check_budget() -> None:
+    if has_request_context():
+        deadline = request.environ.get(_DEADLINE)
+        if deadline is not None and time.monotonic() > deadline[0]:
+            raise BudgetExceeded(deadline[1])
+
+
 def fetch_many(memo: Callable, calls: Iterable[tuple], return_exceptions: bool = False) -> list:
     """``[memo(*args) for args in calls]`` with one shared-cache round trip for all misses.
 
     With `return_exceptions`, a call that raises gives its exception in its place (not cached),
-    so one failing model does not stop the others."""
+    so one failing model does not stop the others. A request past its time budget raises
+    `BudgetExceeded` before computing anything more (even with `return_exceptions`)."""
     fn = memo.uncached
     calls = list(calls)
     keys = [_key(fn, args) for args in calls]
     front = _front()
     results = [_recall(front, k) for k in keys]
     missing = [i for i, r in enumerate(results) if r is _MISSING]
+    _count("local", len(calls) - len(missing))
     if missing:
         stored = cache.get_many(*[keys[i] for i in missing])
         fresh = {}
         for i, box in zip(missing, stored):
             if isinstance(box, tuple) and len(box) == 1:
                 results[i] = _freeze(box[0])
+                _count("shared", 1)
             else:
+                _check_budget()
+                _count("computed", 1)
                 try:
                     results[i] = _freeze(fn(*calls[i]))
                 except Exception as err:  # noqa: BLE001 - handed back to the caller who asked for it
@@ -169,3 +226,101 @@ def _write_behind(backend, mapping: dict) -> None:
 def flush_writes() -> None:
     """Wait until every queued shared-cache write is done (tests, benchmarks, shutdown)."""
     _queue.join()
+
+
+# ----------------------------------------------------------------------------- a guarded backend
+
+
+class GuardedBackend:
+    """The shared backend (`primary`) behind a guard: any exception it raises (Redis refused or
+    timed out) or a write it reports as failed (cache folder not writable or full) switches
+    this process to an in-process `SimpleCache` with one warning; every `retry_seconds` the
+    next call tries the primary again, and the first success logs that it is back.
+
+    Every other backend method passes through the same guard, so the wrapper stands in for the
+    backend wherever flask-caching expects one."""
+
+    def __init__(self, primary, name: str, retry_seconds: float = 5.0, fallback_entries: int = 500):
+        self.primary = primary
+        self.name = name
+        self.retry_seconds = float(retry_seconds)
+        self.fallback = SimpleCache(threshold=fallback_entries)
+        self._down = False
+        self._next_try = 0.0
+        self._guard = threading.Lock()
+
+    @property
+    def available(self) -> bool:
+        """False while the shared backend is out and the in-process cache serves instead."""
+        return not self._down
+
+    def _usable(self) -> bool:
+        with self._guard:
+            return not self._down or time.monotonic() >= self._next_try
+
+    def _failed(self, reason: str) -> None:
+        with self._guard:
+            first = not self._down
+            self._down = True
+            self._next_try = time.monotonic() + self.retry_seconds
+        if first:
+            logger.warning("shared cache %s unavailable (%s); serving from an in-process cache and "
+                           "retrying every %g s", self.name, reason, self.retry_seconds)
+
+    def _succeeded(self) -> None:
+        with self._guard:
+            was_down, self._down = self._down, False
+        if was_down:
+            logger.warning("shared cache %s is back; using it again", self.name)
+
+    def _call(self, method: str, args: tuple, kwargs: dict):
+        if not self._usable():
+            return getattr(self.fallback, method)(*args, **kwargs)
+        try:
+            result = getattr(self.primary, method)(*args, **kwargs)
+        except Exception as err:  # noqa: BLE001 - any backend failure means: do without it
+            self._failed(type(err).__name__)
+            return getattr(self.fallback, method)(*args, **kwargs)
+        if method == "set_many" and len(result or ()) < len(args[0] if args else kwargs["mapping"]):
+            self._failed("a write was refused")
+            return getattr(self.fallback, method)(*args, **kwargs)
+        if method in ("set", "add") and result is False:
+            self._failed("a write was refused")
+            return getattr(self.fallback, method)(*args, **kwargs)
+        self._succeeded()
+        return result
+
+    def get_many(self, *keys):
+        return self._call("get_many", keys, {})
+
+    def set_many(self, mapping, timeout=None):
+        return self._call("set_many", (mapping,), {"timeout": timeout} if timeout is not None else {})
+
+    def __getattr__(self, name: str):
+        attr = getattr(self.primary, name)
+        if not callable(attr):
+            return attr
+        return lambda *args, **kwargs: self._call(name, args, kwargs)
+
+
+def writable_folder(folder: str) -> str | None:
+    """None when a file can be created in `folder` (made if missing), else the reason."""
+    try:
+        os.makedirs(folder, exist_ok=True)
+        probe = tempfile.NamedTemporaryFile(dir=folder, prefix=".probe-")
+        probe.close()
+    except OSError as err:
+        return f"{type(err).__name__}: {err.strerror or err}"
+    return None
+
+
+def guard_backend(flask_app) -> GuardedBackend:
+    """Put the app's cache backend behind a `GuardedBackend` (after ``cache.init_app``). A
+    FileSystemCache whose folder cannot be written starts in the in-process cache at once."""
+    config = flask_app.config
+    kind = str(config["CACHE_TYPE"]).rsplit(".", 1)[-1]
+    guarded = GuardedBackend(flask_app.extensions["cache"][cache], kind,
+                             retry_seconds=config.get("CACHE_RETRY_SECONDS", 5.0),
+                             fallback_entries=int(config.get("CACHE_THRESHOLD", 500) or 500))
+    flask_app.extensions["cache"][cache] = guarded
+    return guarded

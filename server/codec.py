@@ -33,6 +33,7 @@ __all__ = [
     "ModelState", "ViewState", "LinkState", "decode", "encode", "format_number",
     "default_model", "demo_models", "model_cache_key", "parameter_spec", "range_text",
     "reference_slot", "invertible", "VIEW_KEYS", "Z_MIN", "Z_MAX", "FULL_SKY_DEG2",
+    "MAX_QUERY_LENGTH", "MAX_LABEL_LENGTH", "MAX_TABLE_REDSHIFTS", "too_long_problem",
     "DATA_HASH_LENGTH", "R_D_CHOICES", "FIT_KEYS",
 ]
 
@@ -40,6 +41,9 @@ SCHEME_VERSION = 1
 MAX_SLOTS = 4
 MAX_LABEL_LENGTH = 80
 MAX_TABLE_REDSHIFTS = 50
+# Longest query string read, in characters as sent (percent-encoded): four models with
+# 80-character labels fit, and so does the request line under gunicorn's default 4094 bytes.
+MAX_QUERY_LENGTH = 4000
 MAX_MASSES = int(getattr(model, "MAX_NEUTRINO_SPECIES", 3))
 # Redshift range evaluate() accepts.
 Z_MIN, Z_MAX = float(getattr(model, "Z_MIN", -0.99)), float(getattr(model, "Z_MAX", 1e5))
@@ -349,7 +353,7 @@ def _apply_model(slot: int, pairs: list[tuple[str, str]]) -> ModelState:
 def _check_view_value(key: str, raw: str):
     """The value to store on ViewState (as ``(attribute, value)``), or a reason string."""
     if key == "ref":
-        if not re.fullmatch(r"\d+", raw.strip()) or not 1 <= int(raw) <= MAX_SLOTS:
+        if not re.fullmatch(r"[0-9]{1,3}", raw.strip()) or not 1 <= int(raw) <= MAX_SLOTS:
             return f"ref: {raw!r} is not a model slot; expected a whole number 1 to {MAX_SLOTS}"
         return "reference", int(raw)
     if key == "tab":
@@ -435,7 +439,10 @@ def _split(query: str) -> list[tuple[str, str]]:
 
 
 def decode(query: str) -> LinkState:
-    """Parse a query string (with or without ``?``). Never raises; see the module docstring."""
+    """Parse a query string (with or without ``?``). Never raises; see the module docstring.
+    A query longer than `MAX_QUERY_LENGTH` is not read: the demo models, with a ``query`` notice."""
+    if isinstance(query, str) and len(query) > MAX_QUERY_LENGTH:
+        return LinkState(models=demo_models(), notices=(too_long_problem(query),))
     try:
         pairs = _split(query if isinstance(query, str) else "")
     except Exception:  # noqa: BLE001 - decoding must never take the page down
@@ -453,7 +460,7 @@ def decode(query: str) -> LinkState:
             continue
         slot_match = _SLOT_KEY.fullmatch(key)
         if slot_match and slot_match.group(2) in _FIELD_OF:
-            slot = int(slot_match.group(1))
+            slot = int(slot_match.group(1)) if len(slot_match.group(1)) <= 3 else 0  # int() refuses 4300+ digits
             if not 1 <= slot <= MAX_SLOTS or slot_match.group(1) != str(slot):
                 notices.append(Problem(f"m{slot_match.group(1)}",
                                        f"{key}: slot {slot_match.group(1)} does not exist; "
@@ -498,6 +505,19 @@ def decode(query: str) -> LinkState:
         changes["fit"] = None
     view = replace(ViewState(), **changes, invalid=tuple(invalid))
     return LinkState(models=models, view=view, notices=tuple(notices), unknown=tuple(unknown))
+
+
+def too_long_problem(query: str) -> Problem:
+    """The ``query`` problem of an over-long link; it names the longest key, not its value."""
+    pairs = _split(query)
+    where = ""
+    if pairs:
+        key, raw = max(pairs, key=lambda kv: len(kv[0]) + len(kv[1]))
+        shown = key if len(key) <= 40 else key[:40] + "…"
+        where = f" (the longest is {shown}, {len(key) + len(raw)} characters)"
+    return Problem("query", f"query: the link is {len(query)} characters long{where}; expected at most "
+                            f"{MAX_QUERY_LENGTH} (labels up to {MAX_LABEL_LENGTH} characters, up to "
+                            f"{MAX_TABLE_REDSHIFTS} table redshifts)")
 
 
 def _quote(text: str) -> str:

@@ -9,7 +9,7 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
-__all__ = ["ENV_PREFIX", "default_config", "user_cache_dir", "normalise_prefix"]
+__all__ = ["ENV_PREFIX", "default_config", "user_cache_dir", "normalise_prefix", "redis_options"]
 
 ENV_PREFIX = "FDESK"
 
@@ -28,7 +28,24 @@ def default_config() -> dict:
         "CACHE_THRESHOLD": 2000,
         "CACHE_DEFAULT_TIMEOUT": 7 * 24 * 3600,
         "URL_PREFIX": "/",
+        # Hosting (README, "Hosting it for a group"): how often a shared cache that failed is
+        # tried again, the computation budget of one request, the largest request body, and
+        # the sites allowed to frame the page (a CSP frame-ancestors value).
+        "CACHE_RETRY_SECONDS": 5.0,
+        "REQUEST_BUDGET_SECONDS": 5.0,
+        "MAX_CONTENT_LENGTH": 8 * 1024 * 1024,  # above the data upload's own 5 MiB limit
+        "FRAME_ANCESTORS": "'self'",
     }
+
+
+def redis_options() -> dict:
+    """Client options for RedisCache when none are configured: short timeouts and a single
+    quick retry, so a Redis server that is down costs a request milliseconds, not seconds."""
+    from redis.backoff import NoBackoff
+    from redis.retry import Retry
+
+    return {"socket_connect_timeout": 0.5, "socket_timeout": 1.0, "retry": Retry(NoBackoff(), 1),
+            "health_check_interval": 0}
 
 
 def normalise_prefix(prefix: str) -> str:
