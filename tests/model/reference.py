@@ -239,6 +239,14 @@ class RefCosmology:
         return tuple(m / (KB_EV * self.t_nu0) for m in self.masses)
 
     @functools.cached_property
+    def _y0_groups(self):
+        """Equal masses share one F evaluation."""
+        groups = {}
+        for y in self.y0:
+            groups[y] = groups.get(y, 0) + 1
+        return tuple(groups.items())
+
+    @functools.cached_property
     def omega_nu_massless(self):
         return self.n_massless * self.omega_nu_one
 
@@ -283,7 +291,14 @@ class RefCosmology:
         w0, wa = mp.mpf(self.w0), mp.mpf(self.wa)
         if w0 == -1 and wa == 0:
             return mp.mpf(1)
-        return mp.power(a, -3 * (1 + w0 + wa)) * mp.exp(-3 * wa * (1 - a))
+        arg = -3 * wa * (1 - a)
+        # far-future tails of the event-horizon integral: exp of ~1e30 would stall mpmath, and
+        # the integrand there is exp(-1e6) or smaller anyway
+        if arg > 10**6:
+            return mp.inf
+        if arg < -(10**6):
+            return mp.mpf(0)
+        return mp.power(a, -3 * (1 + w0 + wa)) * mp.exp(arg)
 
     def w_de(self, a):
         return mp.mpf(self.w0) + mp.mpf(self.wa) * (1 - a)
@@ -310,8 +325,8 @@ class RefCosmology:
         a = mp.mpf(a)
         a2 = a * a
         s = self.omega_r + self.omega_cb * a + self.omega_curv * a2
-        for y in self.y0:
-            s += self.omega_nu_one * (fd_energy(y * a) if a else 1)
+        for y, count in self._y0_groups:
+            s += count * self.omega_nu_one * (fd_energy(y * a) if a else 1)
         if self.omega_de:
             s += self.omega_de * self.de_factor(a) * a2 * a2
         return s
@@ -480,6 +495,20 @@ class RefCosmology:
         dm = self.transverse_from_comoving(dc)
         if k == 0:
             return 4 * mp.pi / 3 * dm**3
+        xc = dc / dh
+        if abs(k) * xc * xc < mp.mpf("0.1"):
+            # nearly flat: the closed forms cancel catastrophically; integrate the power series of
+            # D_M^2 = (cosh(2 sqrt(k) u) - 1) / (2k) term by term, u = D_C/D_H (entire in k):
+            # V = 4 pi D_H^3 sum_{n>=1} 2^(2n-1) k^(n-1) xc^(2n+1) / ((2n)! (2n+1))
+            total, n = mp.mpf(0), 1
+            while True:
+                term = mp.power(2, 2 * n - 1) * k ** (n - 1) * xc ** (2 * n + 1) / (
+                    mp.factorial(2 * n) * (2 * n + 1))
+                total += term
+                if abs(term) < abs(total) * mp.mpf("1e-40"):
+                    break
+                n += 1
+            return 4 * mp.pi * dh**3 * total
         s = mp.sqrt(abs(k))
         x = dm / dh
         if k > 0:

@@ -164,7 +164,8 @@ def test_density_parameters_sum_to_one():
 
 def test_comoving_volume_closed_forms_against_shell_integral():
     # V_C = 4 pi int_0^{D_C} D_M^2 dD_C (the definition behind Hogg 1999 eq. 29)
-    for kw in (dict(omega_k=0.2), dict(omega_k=0.0), dict(omega_k=-0.3)):
+    for kw in (dict(omega_k=0.2), dict(omega_k=0.0), dict(omega_k=-0.3), dict(omega_k=1e-30),
+               dict(omega_k=-0.01)):
         c = ref.RefCosmology(h0=70, omega_m=0.3, t_cmb=0, **kw)
         dh = c.hubble_distance
         for dc in (dh / 10, dh, 4 * dh):     # the last is past the equator for Omega_k = -0.3
