@@ -579,8 +579,8 @@ def _score_table(c: Comparison) -> dict:
     results = scores(c)
     with_ic = c.state.view.fit is not None
     ref_name = c.reference.name if c.reference else "reference"
-    header = ["model", "χ² [dimensionless]", "degrees of freedom", "p-value", f"Δχ² vs {ref_name}",
-              "free parameters k"] + (["AIC [dimensionless]", "BIC [dimensionless]"] if with_ic else []) + [
+    header = ["model", "χ² [dimensionless]", "degrees of freedom [count]", "p-value [probability]",
+              f"Δχ² vs {ref_name} [dimensionless]", "free parameters k [count]"] + (["AIC [dimensionless]", "BIC [dimensionless]"] if with_ic else []) + [
               "r_d used [Mpc]", "supernova offset M [mag]"]
     rows = []
     for e in c.entries:
