@@ -233,3 +233,20 @@ def test_dark_energy_equality_with_massive_neutrinos_uses_a_stated_matter_defini
     with_nu = 1 / refc.a_dark_energy_equality(include_massive_nu=True) - 1
     errs = (relerr(got, cold), relerr(got, with_nu))
     assert min(errs) <= EPOCH_RTOL, (got, float(cold), float(with_nu), errs)
+
+
+def test_evaluate_matches_reference_past_the_equator_of_a_closed_universe():
+    # Omega_m = 0.1, Omega_de = 1.3 (Omega_k = -0.4, no radiation): D_M turns over at the
+    # equator (sqrt|Omega_k| D_C / D_H = pi/2) and the antipode is reached at finite z; compare
+    # everything on both sides of the equator, short of the antipode (where NaN starts)
+    kw = dict(h0=70.0, omega_m=0.1, omega_b=0.02, t_cmb=0.0, omega_de=1.3)
+    cosmo, refc = _pair(kw)
+    s = mp.sqrt(-refc.omega_curv) / refc.hubble_distance
+    z_eq = mp.findroot(lambda z: s * refc.comoving_distance(z) - mp.pi / 2, 1.0)
+    z_anti = mp.findroot(lambda z: s * refc.comoving_distance(z) - mp.pi, 5.0)
+    zs = [float(f * z_eq) for f in (0.2, 0.7, 1.3)] + [float(z_eq + f * (z_anti - z_eq))
+                                                       for f in (0.3, 0.6, 0.9)]
+    mm = compare_evaluate(cosmo, refc, zs=zs, rtol=RTOL, event_horizon=_want_event_horizon(refc),
+                          label=f"closed past the equator (z_equator={float(z_eq):.4f}, "
+                                f"z_antipode={float(z_anti):.4f})")
+    assert not mm, mm.report()
