@@ -72,10 +72,26 @@ def density_parameters(cosmo, z):
 
 
 def densities(cosmo, z):
-    """Physical densities ρ_i(z) in kg m⁻³ and the critical density ``critical``.
+    """Physical densities ρ_i(z) of every component and the critical density.
 
-    The curvature entry is the equivalent density −3 k c²/(8π G a²) = Ω_k (1+z)² ρ_crit,0,
-    so that the entries other than ``critical`` sum to ρ_crit(z) = 3H²(z)/(8πG).
+    Parameters
+    ----------
+    cosmo : Cosmology
+    z : array_like
+        Redshifts, any shape, z > −1.
+
+    Returns
+    -------
+    dict of str to ndarray
+        The keys of :func:`density_parameters` in kg m⁻³, plus ``critical``,
+        ρ_crit(z) = 3 H²(z) / (8π G). The curvature entry is the equivalent density
+        −3 k c² / (8π G a²) = Ω_k (1+z)² ρ_crit,0, so the entries other than ``critical``
+        sum to it.
+
+    Notes
+    -----
+    ρ_crit,0 = 3 H₀² / (8π G) with G from CODATA (scipy.constants); ρ_γ,0 =
+    (π²/15) (k_B T_CMB)⁴ / (ħ³ c⁵) (Stefan–Boltzmann law for the photon energy density).
     """
     rho0 = const.critical_density(cosmo.h0)
     parts = {k: v * rho0 for k, v in _grouped(cosmo, z).items()}
@@ -84,7 +100,24 @@ def densities(cosmo, z):
 
 
 def w_dark_energy(cosmo, z):
-    """Dark-energy equation of state w(z) = w₀ + w_a z/(1+z) (Linder 2003, eq. 4)."""
+    """Dark-energy equation of state w(z) = w₀ + w_a z/(1+z).
+
+    Parameters
+    ----------
+    cosmo : Cosmology
+    z : array_like
+        Redshifts, z > −1.
+
+    Returns
+    -------
+    ndarray
+        w, dimensionless.
+
+    References
+    ----------
+    Chevallier, M. & Polarski, D. 2001, Int. J. Mod. Phys. D 10, 213, eq. 14;
+    Linder, E. V. 2003, PRL 90, 091301, eq. 4.
+    """
     z = _scale_factors(z)
     return cosmo.w0 + cosmo.wa * z / (1.0 + z)
 
@@ -92,8 +125,23 @@ def w_dark_energy(cosmo, z):
 def w_effective(cosmo, z):
     """Equation of state of the whole content, w_tot = Σ p_i / Σ ρ_i (curvature excluded).
 
-    With p_i = w_i ρ_i: radiation 1/3, cold matter 0, massive neutrinos from their
-    Fermi–Dirac pressure, dark energy w(z). For a flat model this is (2q − 1)/3.
+    Parameters
+    ----------
+    cosmo : Cosmology
+    z : array_like
+        Redshifts, z > −1.
+
+    Returns
+    -------
+    ndarray
+        w_tot, dimensionless.
+
+    Notes
+    -----
+    With p_i = w_i ρ_i c²: radiation 1/3, cold matter 0, massive neutrinos
+    w_ν = (1 − d ln F / d ln y)/3 from their Fermi–Dirac pressure, dark energy w(z).
+    For a flat model w_tot = (2q − 1)/3, from Friedmann's acceleration equation
+    (e.g. Peebles 1993, *Principles of Physical Cosmology*, eq. 5.15).
     """
     c = components(cosmo, _scale_factors(z))
     rho = (c["photons"] + c["neutrinos_massless"] + c["neutrinos_massive"] + c["baryons"]

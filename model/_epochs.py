@@ -39,7 +39,20 @@ def _first_sign_change(f, u):
 
 
 def cosmic_time(cosmo, a):
-    """Cosmic time since the big bang at scale factor ``a`` (scalar, expanding branch), Gyr."""
+    """Cosmic time since the big bang at a scale factor, on the expanding branch.
+
+    Parameters
+    ----------
+    cosmo : Cosmology
+    a : float
+        Scale factor a = 1/(1+z) > 0 (a > 1 is the future).
+
+    Returns
+    -------
+    float
+        t(a) = ∫₀^a da' / (a' H(a')) in Gyr (Hogg 1999, §10, eq. 30 with the limits of the
+        age); inf for a model whose H vanishes as a → 0.
+    """
     u = -math.log(a)
     tab = tables(cosmo)
     if u >= U_MIN:
