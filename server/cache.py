@@ -231,21 +231,31 @@ def flush_writes() -> None:
 # ----------------------------------------------------------------------------- a guarded backend
 
 
+_WRITES = ("set", "set_many", "add")
+
+
 class GuardedBackend:
     """The shared backend (`primary`) behind a guard: any exception it raises (Redis refused or
     timed out) or a write it reports as failed (cache folder not writable or full) switches
     this process to an in-process `SimpleCache` with one warning; every `retry_seconds` the
-    next call tries the primary again, and the first success logs that it is back.
+    next call tries the primary again, and the first success logs that it is back. A file cache
+    reads "nothing" from a missing folder without an error, so for it (`reads_prove_recovery`
+    false) and after any refused write only a write can prove the primary is back; meanwhile
+    reads stay in process.
 
     Every other backend method passes through the same guard, so the wrapper stands in for the
     backend wherever flask-caching expects one."""
 
-    def __init__(self, primary, name: str, retry_seconds: float = 5.0, fallback_entries: int = 500):
+    def __init__(self, primary, name: str, retry_seconds: float = 5.0, fallback_entries: int = 500,
+                 reads_prove_recovery: bool = True):
         self.primary = primary
+        self.reads_prove_recovery = reads_prove_recovery
         self.name = name
         self.retry_seconds = float(retry_seconds)
         self.fallback = SimpleCache(threshold=fallback_entries)
         self._down = False
+        self._writes_failed = False
+        self._failures = 0  # counts failures, so a call that began before one cannot undo it
         self._next_try = 0.0
         self._guard = threading.Lock()
 
@@ -254,27 +264,37 @@ class GuardedBackend:
         """False while the shared backend is out and the in-process cache serves instead."""
         return not self._down
 
-    def _usable(self) -> bool:
+    def _usable(self, method: str) -> int | None:
+        """The failure count when `method` may go to the primary now, else None."""
         with self._guard:
-            return not self._down or time.monotonic() >= self._next_try
+            if not self._down:
+                return self._failures
+            if self._writes_failed and method not in _WRITES:
+                return None
+            return self._failures if time.monotonic() >= self._next_try else None
 
-    def _failed(self, reason: str) -> None:
+    def _failed(self, reason: str, write: bool = False) -> None:
         with self._guard:
             first = not self._down
+            self._writes_failed = write or not self.reads_prove_recovery
             self._down = True
+            self._failures += 1
             self._next_try = time.monotonic() + self.retry_seconds
         if first:
             logger.warning("shared cache %s unavailable (%s); serving from an in-process cache and "
                            "retrying every %g s", self.name, reason, self.retry_seconds)
 
-    def _succeeded(self) -> None:
+    def _succeeded(self, failures_before: int) -> None:
         with self._guard:
+            if self._failures != failures_before:  # it failed meanwhile (another thread)
+                return
             was_down, self._down = self._down, False
         if was_down:
             logger.warning("shared cache %s is back; using it again", self.name)
 
     def _call(self, method: str, args: tuple, kwargs: dict):
-        if not self._usable():
+        failures_before = self._usable(method)
+        if failures_before is None:
             return getattr(self.fallback, method)(*args, **kwargs)
         try:
             result = getattr(self.primary, method)(*args, **kwargs)
@@ -282,12 +302,12 @@ class GuardedBackend:
             self._failed(type(err).__name__)
             return getattr(self.fallback, method)(*args, **kwargs)
         if method == "set_many" and len(result or ()) < len(args[0] if args else kwargs["mapping"]):
-            self._failed("a write was refused")
+            self._failed("a write was refused", write=True)
             return getattr(self.fallback, method)(*args, **kwargs)
         if method in ("set", "add") and result is False:
-            self._failed("a write was refused")
+            self._failed("a write was refused", write=True)
             return getattr(self.fallback, method)(*args, **kwargs)
-        self._succeeded()
+        self._succeeded(failures_before)
         return result
 
     def get_many(self, *keys):
@@ -321,6 +341,7 @@ def guard_backend(flask_app) -> GuardedBackend:
     kind = str(config["CACHE_TYPE"]).rsplit(".", 1)[-1]
     guarded = GuardedBackend(flask_app.extensions["cache"][cache], kind,
                              retry_seconds=config.get("CACHE_RETRY_SECONDS", 5.0),
-                             fallback_entries=int(config.get("CACHE_THRESHOLD", 500) or 500))
+                             fallback_entries=int(config.get("CACHE_THRESHOLD", 500) or 500),
+                             reads_prove_recovery=kind != "FileSystemCache")
     flask_app.extensions["cache"][cache] = guarded
     return guarded
