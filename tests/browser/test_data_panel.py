@@ -33,11 +33,11 @@ def test_demo_data_chi2_fit_load_into_slot_and_map(dash_duo, app_factory):
     dash_duo.find_element("#fd-data-demo").click()
     wait_until(dash_duo, lambda d: "data=" in d.current_url)
     dash_duo.wait_for_contains_text("#fd-data-message", "synthetic demo data", timeout=10)
-    dash_duo.wait_for_contains_text("#fd-panel", "Goodness of fit", timeout=10)
-    dash_duo.wait_for_contains_text("#fd-panel", "synthetic", timeout=10)
+    dash_duo.wait_for_contains_text("#fd-panel .fd-table", "χ² [dimensionless]", timeout=20)
+    dash_duo.wait_for_contains_text("#fd-panel .fd-error", "synthetic", timeout=10)
     for m in codec.demo_models():
         expected = model.goodness_of_fit(_cosmology(m), DEMO)
-        dash_duo.wait_for_contains_text("#fd-panel", number(expected.chi2, 6), timeout=10)
+        dash_duo.wait_for_contains_text("#fd-panel .fd-table", number(expected.chi2, 6), timeout=10)
     assert len(dash_duo.find_elements("#fd-fig-residual-distance_modulus")) == 1
 
     # quick fit of the reference model (slot 1) with the default free parameters Ω_m and w₀
@@ -55,7 +55,7 @@ def test_demo_data_chi2_fit_load_into_slot_and_map(dash_duo, app_factory):
     fitted = next(m for m in state.models if m.slot == 4)
     assert abs(fitted.omega_m - direct.best["omega_m"]) < 1e-6 and abs(fitted.w0 - direct.best["w0"]) < 1e-6
     wait_until(dash_duo, lambda d: len(d.find_elements(By.CSS_SELECTOR, ".fd-card")) == 4)
-    dash_duo.wait_for_contains_text("#fd-panel", "AIC", timeout=10)
+    dash_duo.wait_for_contains_text("#fd-panel .fd-table", "AIC", timeout=20)
 
     dash_duo.find_element("#fd-map-run").click()
     dash_duo.wait_for_element("#fd-fig-chi2-map", timeout=20)
@@ -65,7 +65,7 @@ def test_demo_data_chi2_fit_load_into_slot_and_map(dash_duo, app_factory):
 
 def test_malformed_table_and_expired_reference_are_reported_and_panels_keep_working(dash_duo, app_factory):
     open_link(dash_duo, app_factory(), "m1.label=Alone&tab=data&data=" + "0" * codec.DATA_HASH_LENGTH)
-    dash_duo.wait_for_contains_text("#fd-panel", "no longer stored", timeout=10)
+    dash_duo.wait_for_contains_text("#fd-panel .fd-error", "no longer stored", timeout=10)
     box = dash_duo.find_element("#fd-data-text")
     box.send_keys("z,kind,value,error\n0.5,dm_over_rd,13.1,0.2\n0.7,dm_over_rd,abc,0.3\n")
     dash_duo.find_element("#fd-data-paste").click()
@@ -76,5 +76,5 @@ def test_malformed_table_and_expired_reference_are_reported_and_panels_keep_work
     dash_duo.find_element("#fd-tab").find_element(By.XPATH, ".//*[text()='Distances']").click()
     wait_until(dash_duo, lambda d: "tab=distances" in d.current_url)
     wait_until(dash_duo, lambda d: any("Alone" in e.text for e in d.find_elements(By.CSS_SELECTOR, ".legendtext")))
-    dash_duo.wait_for_contains_text("#fd-panel", "no longer stored")
+    dash_duo.wait_for_contains_text("#fd-panel .fd-error", "no longer stored")
     assert dash_duo.get_logs() == []
