@@ -324,6 +324,11 @@ def _distances(c: Comparison) -> dict:
     blocks[3]["spec"]["points"] = _data_points(c, "hubble_parameter", lambda z, v, err: (v / (1 + z), err / (1 + z)))
     notes = [{"kind": "text", "text": f"Measurements: {problem}", "class": "fd-error"}
              for problem in [measurements(c)[1]] if problem]
+    if blocks[1]["spec"]["points"]:
+        blocks.insert(2, {"kind": "text", "text": (
+            "The supernova offset M is free: the points are the moduli minus the reference model with its best "
+            "M; another model's curve is shown without its own M, so a constant shift between them does not "
+            "change its χ² (see the data panel).")})
     return {"controls": controls, "blocks": blocks + notes + _failures_note(c)}
 
 

@@ -134,3 +134,15 @@ def test_map_and_its_contours(ctx):
     assert [t["contours"]["start"] for t in contours] == [2.30, 6.18]
     with pytest.raises(panels.FitRequestError, match="two different"):
         panels.map_request(state, 1, "w0", "w0", {}, None)
+
+
+def test_upload_contents_decoding():
+    import base64
+
+    from server.callbacks import upload_bytes
+
+    assert upload_bytes("data:text/csv;base64," + base64.b64encode(b"z,kind\n").decode(), "measurements") == b"z,kind\n"
+    assert upload_bytes(None, "covariance") is None
+    for bad in ("no comma", "data:text/csv;base64,@@@", "text/csv,abc"):
+        with pytest.raises(data_store.DataRejected, match="measurements: "):
+            upload_bytes(bad, "measurements")
