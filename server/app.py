@@ -8,13 +8,12 @@ from pathlib import Path
 
 import dash
 from flask import Flask
-from flask.logging import default_handler
 
 from server.cache import cache, code_fingerprint, guard_backend, writable_folder
 from server.config import ENV_PREFIX, default_config, normalise_prefix, redis_options
 from server.headers import SecurityHeaders, content_security_policy, security_headers
 from server.limits import install_limits
-from server.requestlog import RedactingFormatter, RequestLog
+from server.requestlog import RedactExceptions, RequestLog
 
 __all__ = ["create_app", "settle_heap"]
 
@@ -59,7 +58,8 @@ def create_app(config: dict | None = None) -> dash.Dash:
     _choose_cache(flask_app.config)
     cache.init_app(flask_app)
     guard_backend(flask_app)
-    default_handler.setFormatter(RedactingFormatter("[%(asctime)s] %(levelname)s in %(module)s: %(message)s"))
+    if not any(isinstance(f, RedactExceptions) for f in flask_app.logger.filters):
+        flask_app.logger.addFilter(RedactExceptions())  # the logger is shared by name: add it once
 
     from server import api, callbacks  # deferred: they import the model
     from layouts.page import page

@@ -453,6 +453,8 @@ def decode(query: str) -> LinkState:
     notices: list[Problem] = []
     unknown: list[str] = []
     for key, raw in pairs:
+        if not key:
+            continue  # "=x" or "&&": there is no key to apply or to name
         seen[key] = seen.get(key, 0) + 1
         if seen[key] == 2:
             notices.append(Problem(key, f"{key}: given more than once; the first value is used"))

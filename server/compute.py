@@ -165,7 +165,9 @@ def redshift_grid(zmax: float, n: int = GRID_POINTS) -> np.ndarray:
     reaching far redshifts on the log axis."""
     if zmax <= LINEAR_GRID_ZMAX:
         return np.linspace(0.0, zmax, n)
-    return np.expm1(np.linspace(0.0, math.log1p(zmax), n))
+    z = np.expm1(np.linspace(0.0, math.log1p(zmax), n))
+    z[-1] = zmax  # expm1(log1p(x)) can land an ulp above x, outside the model's range at x = Z_MAX
+    return z
 
 
 def _budget(cosmo: model.Cosmology) -> dict:

@@ -5,8 +5,9 @@ the path only, percent-encoded (so no typed text, newline or label of the query 
 log), and the cache outcome of the request's model look-ups (`server.cache.request_cache_status`),
 which is also sent as the ``X-Fdesk-Cache`` response header.
 
-`RedactingFormatter` writes exception tracebacks with the exception's type but without its
-message, since messages can quote what a user typed (a label, a malformed number).
+`RedactExceptions` (a filter on the app's logger) renders exception tracebacks with the
+exception's type but without its message, since messages can quote what a user typed (a label,
+a malformed number); every handler then prints that rendering.
 """
 
 from __future__ import annotations
@@ -21,7 +22,7 @@ from typing import Callable
 
 from server.cache import request_cache_status
 
-__all__ = ["RequestLog", "RedactingFormatter", "request_logger", "CACHE_HEADER"]
+__all__ = ["RequestLog", "RedactExceptions", "redacted_traceback", "request_logger", "CACHE_HEADER"]
 
 CACHE_HEADER = "X-Fdesk-Cache"
 _PATH_SAFE = "/._-~:@!$&'()*+,;="
@@ -52,14 +53,22 @@ def request_logger() -> logging.Logger:
     return logger
 
 
-class RedactingFormatter(logging.Formatter):
-    """Tracebacks keep the stack and the exception's type, drop its message."""
+def redacted_traceback(exc_info) -> str:
+    """The stack and the exception's type, without its message (nor those of its causes)."""
+    kind, _value, tb = exc_info
+    lines = traceback.format_list(traceback.extract_tb(tb))
+    name = getattr(kind, "__qualname__", str(kind))
+    return "Traceback (most recent call last):\n" + "".join(lines) + f"{name}: <message withheld>"
 
-    def formatException(self, ei) -> str:  # noqa: N802 - logging's name
-        kind, _value, tb = ei
-        lines = traceback.format_list(traceback.extract_tb(tb))
-        name = getattr(kind, "__qualname__", str(kind))
-        return "Traceback (most recent call last):\n" + "".join(lines) + f"{name}: <message withheld>"
+
+class RedactExceptions(logging.Filter):
+    """Pre-renders a record's traceback with `redacted_traceback` (logging's formatters print
+    ``record.exc_text`` when it is set instead of formatting the exception themselves)."""
+
+    def filter(self, record: logging.LogRecord) -> bool:
+        if record.exc_info and record.exc_info[0] is not None:
+            record.exc_text = redacted_traceback(record.exc_info)
+        return True
 
 
 def _clean_path(environ) -> str:
