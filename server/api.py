@@ -1,6 +1,7 @@
 """JSON routes: ``GET /healthz``, ``GET /api/v1/compare?<link query>`` and ``POST /api/v1/data``.
 
-``POST /api/v1/data`` stores a measurement table (and optional covariance file) and answers its
+``POST /api/v1/catalogue`` streams a redshift file back with every evaluate() column added
+(`server.catalogue`). ``POST /api/v1/data`` stores a measurement table (and optional covariance file) and answers its
 reference; ``compare`` with ``data=<hash>`` adds chi^2 per model (``server.data_store``). A
 malformed upload is a 400 naming file, line and column; an expired reference a 404.
 
@@ -15,7 +16,7 @@ from importlib import metadata
 
 from flask import Blueprint, current_app, jsonify, request
 
-from server import codec, compute, data_store
+from server import catalogue, codec, compute, data_store
 from server.cache import BudgetExceeded, cache
 
 __all__ = ["make_blueprint", "compare_payload", "API_VERSION"]
@@ -154,6 +155,10 @@ def make_blueprint() -> Blueprint:
                         "kinds": {k: int((data.kind == k).sum()) for k in data.kinds_present},
                         "covariance": data.covariance_source,
                         "expires_in_s": int(current_app.config.get("DATA_TIMEOUT", data_store.DEFAULT_TIMEOUT))}), 201
+
+    @bp.post("/api/v1/catalogue")
+    def catalogue_columns():
+        return catalogue.handle()
 
     @bp.get("/api/v1/compare")
     def compare():

@@ -1,0 +1,272 @@
+"""Catalogue columns: a CSV with a redshift column comes back with every `model.evaluate`
+quantity added, for one model of the link or for all of them.
+
+The upload is read twice from its (spooled) file, in chunks of `CHUNK_ROWS` lines, so memory
+stays bounded whatever the size: the first pass checks every redshift (a bad one is refused with
+its line and column before anything is sent), the second evaluates and streams the answer.
+Lines other than the header and the rows (blank lines, ``#`` comments) are passed through.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+from typing import IO, Iterator
+
+import numpy as np
+
+import model
+from server import codec
+
+__all__ = ["CatalogueError", "MAX_ROWS", "MAX_BYTES", "CHUNK_ROWS", "check", "stream", "column_names"]
+
+MAX_ROWS = 1_000_000
+MAX_BYTES = 64 << 20  # 64 MiB: a million rows of a few columns (judgement, no source)
+CHUNK_ROWS = 65536
+
+
+class CatalogueError(ValueError):
+    """The redshift file cannot be used; names the line and column (1-based)."""
+
+    def __init__(self, line: int, column: int, reason: str):
+        self.line, self.column = line, column
+        super().__init__(f"redshift file, line {line}, column {column}: {reason}")
+
+
+def _lines(handle: IO[bytes]) -> Iterator[tuple[int, str]]:
+    handle.seek(0)
+    first = True
+    for number, raw in enumerate(handle, start=1):
+        if first and raw.startswith(b"\xef\xbb\xbf"):
+            raw = raw[3:]
+        first = False
+        try:
+            text = raw.decode("utf-8")
+        except UnicodeDecodeError as err:
+            raise CatalogueError(number, 1, f"byte 0x{raw[err.start]:02x} is not UTF-8; save the file as UTF-8 "
+                                            "text (a binary file or another encoding was given)") from None
+        if "\x00" in text:
+            raise CatalogueError(number, 1, "a NUL byte: this looks like a binary file; only text is accepted")
+        yield number, text.rstrip("\r\n")
+
+
+def _cells(text: str) -> list[str]:
+    if '"' not in text:
+        return text.split(",")
+    return next(csv.reader([text]), [])
+
+
+def _is_content(text: str) -> bool:
+    stripped = text.strip()
+    return bool(stripped) and not stripped.startswith("#")
+
+
+def _header(handle) -> tuple[int, int, int]:
+    """(line of the header, index of the z column, number of header cells)."""
+    for number, text in _lines(handle):
+        if not _is_content(text):
+            continue
+        names = [c.strip().lower() for c in _cells(text)]
+        hits = [i for i, n in enumerate(names) if n == "z"]
+        if len(hits) != 1:
+            raise CatalogueError(number, (hits[1] + 1) if hits else 1,
+                                 "the header needs exactly one column named z (the redshift); "
+                                 f"found {len(hits)}")
+        return number, hits[0], len(names)
+    raise CatalogueError(1, 1, "no header line; the first line that is not blank or a # comment must name "
+                               "the columns, one of them z")
+
+
+def _redshift(cell: str, number: int, column: int) -> float:
+    text = cell.strip()
+    if text.lower() in ("nan", "+nan", "-nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"):
+        raise CatalogueError(number, column, f"{text!r}: NaN and infinity are not accepted")
+    try:
+        value = float(text)
+    except ValueError:
+        raise CatalogueError(number, column, f"{text!r} is not a number (write e.g. 0.51 or 1.2e-3)") from None
+    if not math.isfinite(value) or not codec.Z_MIN <= value <= codec.Z_MAX:
+        raise CatalogueError(number, column, f"z = {text} is outside the model's range "
+                                             f"{codec.format_number(codec.Z_MIN)} ≤ z ≤ {codec.format_number(codec.Z_MAX)}")
+    return value
+
+
+def _slow_chunk(lines, z_index: int, width: int) -> list:
+    """Line by line, naming the first bad line and column (raises `CatalogueError`)."""
+    out = []
+    for number, text in lines:
+        if not _is_content(text):
+            out.append(None)
+            continue
+        cells = _cells(text)
+        if len(cells) != width:
+            raise CatalogueError(number, min(len(cells), width) + 1,
+                                 f"{len(cells)} cells where the header has {width}")
+        out.append(_redshift(cells[z_index], number, z_index + 1))
+    return out
+
+
+def _fast_chunk(lines, z_index: int, width: int):
+    """The redshifts of a chunk of plain rows (no quotes, comments or blank lines, every row
+    `width` cells) by numpy's C parser, or None when anything is unusual or wrong: the slow
+    path then names the line and column."""
+    texts = [text for _, text in lines]
+    commas = width - 1
+    if any(t.count(",") != commas or not t.strip() or t.lstrip()[0] == "#" or '"' in t for t in texts):
+        return None
+    try:
+        z = np.loadtxt(texts, delimiter=",", usecols=[z_index], comments=None, dtype=float, ndmin=1)
+    except ValueError:
+        return None
+    if not (np.isfinite(z).all() and z.min() >= codec.Z_MIN and z.max() <= codec.Z_MAX):
+        return None
+    return z
+
+
+def _rows(handle, start: int, z_index: int, width: int) -> Iterator[tuple[list, np.ndarray]]:
+    """Chunks of ``(lines, z)`` after the header: `lines` as (number, text), `z` (float array,
+    NaN for lines passed through: blank lines and comments)."""
+    chunk = []
+    rows = 0
+
+    def parsed(lines):
+        nonlocal rows
+        z = _fast_chunk(lines, z_index, width)
+        if z is None:
+            z = np.array([np.nan if v is None else v for v in _slow_chunk(lines, z_index, width)], dtype=float)
+        rows += int(np.count_nonzero(~np.isnan(z)))
+        if rows > MAX_ROWS:
+            raise CatalogueError(lines[-1][0], 1, f"more than {MAX_ROWS} rows (the limit)")
+        return lines, z
+
+    for number, text in _lines(handle):
+        if number <= start:
+            continue
+        chunk.append((number, text))
+        if len(chunk) >= CHUNK_ROWS:
+            yield parsed(chunk)
+            chunk = []
+    if chunk:
+        yield parsed(chunk)
+
+
+def check(handle) -> int:
+    """First pass: refuse a bad file (raises `CatalogueError`); returns the number of rows."""
+    start, z_index, width = _header(handle)
+    return sum(int(np.count_nonzero(~np.isnan(z))) for _, z in _rows(handle, start, z_index, width))
+
+
+def column_names(models: list[tuple[int, object]]) -> list[str]:
+    """``m<slot>:<quantity>[<unit>]`` for every model and every `model.QUANTITIES` key."""
+    return [f"m{slot}:{key}[{unit or 'dimensionless'}]" for slot, _ in models
+            for key, (unit, _) in model.QUANTITIES.items()]
+
+
+def _format_block(columns: list[np.ndarray]) -> list[str]:
+    fmt = ",".join(["%.9g"] * len(columns))
+    stacked = np.column_stack(columns)
+    return [(fmt % tuple(row)).replace("nan", "") for row in stacked.tolist()]
+
+
+def stream(handle, models: list[tuple[int, model.Cosmology]]) -> Iterator[str]:
+    """Second pass: the file with the columns added (text chunks). Call `check` first."""
+    start, z_index, width = _header(handle)
+    for number, text in _lines(handle):
+        if number == start:
+            yield text + "," + ",".join(column_names(models)) + "\n"
+            break
+        yield text + "\n"
+    for lines, z in _rows(handle, start, z_index, width):
+        content = ~np.isnan(z)
+        columns = []
+        with np.errstate(all="ignore"):
+            for _, cosmo in models:
+                values = model.evaluate(cosmo, z[content])
+                columns.extend(np.asarray(values[key], dtype=float) for key in model.QUANTITIES)
+        formatted = _format_block(columns) if content.any() else []
+        if content.all():
+            yield "\n".join(f"{text},{cells}" for (_, text), cells in zip(lines, formatted)) + "\n"
+            continue
+        out, rows = io.StringIO(), iter(formatted)
+        for (_, text), keep in zip(lines, content.tolist()):
+            out.write(f"{text},{next(rows)}\n" if keep else text + "\n")
+        yield out.getvalue()
+
+
+# ----------------------------------------------------------------------------- the route
+
+
+def _spooled(source):
+    """A private copy of the upload (in memory up to 4 MiB, then on disk): Flask closes the
+    request's own file when the view returns, before the answer has been streamed."""
+    import tempfile
+
+    spool = tempfile.SpooledTemporaryFile(max_size=4 << 20)
+    total = 0
+    while True:
+        block = source.read(1 << 20)
+        if not block:
+            break
+        total += len(block)
+        if total > MAX_BYTES:
+            return None
+        spool.write(block)
+    return spool
+
+
+def handle():
+    """``POST /api/v1/catalogue?<link query>&models=<slot>|all``: the redshift file (multipart
+    field ``redshifts``, or the raw body) with the columns added, streamed as CSV. Refusals are
+    JSON: 400 naming the link key or the file's line and column, 413 above the size limit."""
+    import urllib.parse
+
+    from flask import Response, jsonify, request, stream_with_context
+
+    from server import compute
+
+    def refuse(field, message, status=400, **where):
+        return jsonify({"error": {"field": field, "message": message, **where}}), status
+
+    # this route alone takes catalogues above the app-wide MAX_CONTENT_LENGTH (Flask >= 3.1)
+    request.max_content_length = MAX_BYTES + 65536
+    if request.content_length is not None and request.content_length > MAX_BYTES + 65536:
+        return refuse("redshifts", f"redshifts: {request.content_length} bytes; the limit is {MAX_BYTES} bytes",
+                      413)
+    pairs = urllib.parse.parse_qsl(request.query_string.decode("utf-8", "replace"), keep_blank_values=True)
+    wanted = next((v for k, v in pairs if k == "models"), None) or request.form.get("models") or ""
+    state = codec.decode(urllib.parse.urlencode([(k, v) for k, v in pairs if k != "models"]))
+    problems = state.problems()
+    if problems:
+        return refuse(problems[0].key, problems[0].message)
+    resolved = compute.resolve_all(state)
+    if wanted.strip() in ("", "ref"):
+        chosen = [r for r in resolved if r.state.slot == codec.reference_slot(state)]
+    elif wanted.strip() == "all":
+        chosen = resolved
+    else:
+        chosen = [r for r in resolved if str(r.state.slot) == wanted.strip()]
+        if not chosen:
+            return refuse("models", f"models: {wanted!r} is not a model of the link; expected a slot of "
+                                    f"{', '.join(map(str, state.slots()))}, 'ref' or 'all'")
+    for r in chosen:
+        if r.problem is not None:
+            return refuse(r.problem.key, r.problem.message)
+    handle_ = _spooled(request.files["redshifts"].stream if "redshifts" in request.files else request.stream)
+    if handle_ is None:
+        return refuse("redshifts", f"redshifts: the file is larger than the limit of {MAX_BYTES} bytes", 413)
+    try:
+        rows = check(handle_)
+    except CatalogueError as err:
+        handle_.close()
+        return refuse("redshifts", str(err), line=err.line, column=err.column)
+    models = [(r.state.slot, compute.cosmology_for(r.key)) for r in chosen]
+
+    def answer():
+        try:
+            yield from stream(handle_, models)
+        finally:
+            handle_.close()
+    return Response(stream_with_context(answer()), mimetype="text/csv",
+                    headers={"Content-Disposition": 'attachment; filename="catalogue-with-columns.csv"',
+                             "X-Rows": str(rows)})
