@@ -92,6 +92,19 @@ def data_tools(options: dict) -> html.Div:
             ]),
             dcc.Loading(html.Div(id=ids.map_out), type="dot", delay_show=300),
         ]),
+        html.Section(className="fd-data-box fd-data-wide", children=[
+            html.H3("Catalogue columns"),
+            html.P(options["catalogue"], className="fd-note"),
+            # layouts/assets/catalogue.js sends the file to POST /api/v1/catalogue and saves the streamed answer
+            html.Div(className="fd-data-row", children=[
+                html.Label("columns for"),
+                dcc.RadioItems(id=ids.catalogue_models, inline=True, value="ref", options=[
+                    {"label": "the reference model", "value": "ref"}, {"label": "every model", "value": "all"}]),
+                html.Button("choose a redshift file and download it with the columns added (CSV)",
+                            id=ids.catalogue_run, n_clicks=0, className="fd-button"),
+            ]),
+            html.Div(id=ids.catalogue_message, className="fd-note", role="status"),
+        ]),
     ])
 
 

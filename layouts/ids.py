@@ -38,6 +38,9 @@ class _Ids:
     map_y = "fd-map-y"
     map_run = "fd-map-run"
     map_out = "fd-map-out"
+    catalogue_models = "fd-catalogue-models"
+    catalogue_run = "fd-catalogue-run"
+    catalogue_message = "fd-catalogue-message"
 
     @staticmethod
     def fit_bound(name: str, end: str) -> dict:

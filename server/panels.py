@@ -776,6 +776,10 @@ def data_tool_options() -> dict:
                        for n, (lo, hi) in DEFAULT_BOUNDS.items()],
         "default_free": ["omega_m", "w0"],
         "map_default": ("omega_m", "w0"),
+        "catalogue": ("A CSV with a column named z (up to 1 000 000 rows, 64 MiB) comes back with every quantity "
+                      "of the table panel added, for the reference model or every model, as columns "
+                      "m<slot>:<quantity>[<unit>] (9 significant digits; empty where undefined). The file is "
+                      "sent to POST /api/v1/catalogue and the answer streams back."),
     }
 
 

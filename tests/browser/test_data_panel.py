@@ -78,3 +78,15 @@ def test_malformed_table_and_expired_reference_are_reported_and_panels_keep_work
     wait_until(dash_duo, lambda d: any("Alone" in e.text for e in d.find_elements(By.CSS_SELECTOR, ".legendtext")))
     dash_duo.wait_for_contains_text("#fd-panel .fd-error", "no longer stored")
     assert dash_duo.get_logs() == []
+
+
+def test_catalogue_columns_round_trip_through_the_page_script(dash_duo, app_factory):
+    open_link(dash_duo, app_factory(), "m1.label=Only&m1.h0=70&tab=data")
+    dash_duo.wait_for_element("#fd-catalogue-run")
+    # the file dialog cannot be driven: hand the page script a file made in the page
+    dash_duo.driver.execute_script(
+        "window.fdeskSendCatalogue(new File(['id,z\\n1,0.5\\n2,1.5\\n3,2.5\\n'], 'made-up.csv', {type: 'text/csv'}));")
+    dash_duo.wait_for_contains_text("#fd-catalogue-message", "done: 3 rows", timeout=15)
+    # (a refused file is a 400, which the browser logs as a console error: refusals are tested
+    # through the API in tests/server/test_data_catalogue.py)
+    assert dash_duo.get_logs() == []
