@@ -10,7 +10,7 @@ import math
 
 import mpmath as mp
 import numpy as np
-from hypothesis import HealthCheck, settings
+from hypothesis import HealthCheck, Phase, settings
 from hypothesis import strategies as st
 
 import model
@@ -24,10 +24,13 @@ EPOCH_RTOL = 1e-5      # epoch redshifts
 # Redshifts spanning the required range 1e-3 .. 1100, given unsorted on purpose.
 Z_GRID = [2.0, 1e-3, 1100.0, 0.01, 0.5, 10.0, 0.1, 1.0, 100.0, 5.0, 30.0, 0.25]
 
-# Hypothesis: the reference is slow (30 digits), so few examples, no deadline.
+# Hypothesis: the reference is slow (30 digits), so few examples, no deadline, and no shrinking
+# (shrinking a failure re-runs the reference hundreds of times; the failing model is printed
+# as drawn, with every mismatch).
 REFERENCE_SETTINGS = settings(
     max_examples=5,
     deadline=None,
+    phases=[Phase.explicit, Phase.reuse, Phase.generate],
     suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much],
     print_blob=True,
 )

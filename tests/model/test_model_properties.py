@@ -215,3 +215,18 @@ def test_nan_beyond_the_antipode_of_a_closed_universe():
         assert np.all(np.isfinite(out[key][:2])) and np.all(out[key][:2] > 0), key
         assert np.all(np.isnan(out[key][2:])), (key, out[key])
     assert np.all(np.isfinite(out["comoving_distance"])) and np.all(np.isfinite(out["age"]))
+
+
+@pytest.mark.parametrize("omega_k", [1e-12, -1e-12, 1e-250, -1e-250, 5e-324])
+def test_nearly_flat_curvature_matches_flat(omega_k):
+    # a curvature far below any measurable value must give the flat answers (to 1e-7), not NaN;
+    # hypothesis found Omega_k = 2.4e-235 giving NaN comoving volumes
+    kw = dict(h0=72.75, omega_m=0.61, omega_b=0.16, w0=-1.4, m_nu=())
+    z = np.array([1e-3, 0.3, 1.0, 20.0, 1100.0])
+    flat = model.evaluate(model.Cosmology(**kw), z)
+    curved = model.evaluate(model.Cosmology(omega_k=omega_k, **kw), z)
+    for key, want in flat.items():
+        got = np.asarray(curved[key])
+        finite = np.isfinite(np.asarray(want))
+        np.testing.assert_allclose(got[finite], np.asarray(want)[finite], rtol=1e-7,
+                                   err_msg=f"{key} at Omega_k = {omega_k:g}")
