@@ -7,7 +7,6 @@ r_s at the published z_drag and z* within 0.05 % of r_drag and r*, 100 theta* wi
 
 import math
 
-import mpmath as mp
 import numpy as np
 import pytest
 
