@@ -17,7 +17,7 @@ from importlib import metadata
 from flask import Blueprint, current_app, jsonify, request
 
 from server import catalogue, codec, compute, data_store
-from server.cache import BudgetExceeded, cache
+from server.cache import BudgetExceeded, cache, memoized
 
 __all__ = ["make_blueprint", "compare_payload", "API_VERSION"]
 
@@ -71,6 +71,26 @@ def compare_payload(query: str) -> tuple[dict, codec.Problem | None]:
     if state.view.data is not None:
         payload["data"] = scores["summary"]
     return compute.json_ready(payload), None
+
+
+@memoized
+def _answer(canonical: str) -> dict | None:
+    """A valid canonical link's compare answer (plain JSON types), or None when a model is refused."""
+    payload, problem = compare_payload(canonical)
+    return None if problem is not None else payload
+
+
+def _memoized_answer(query: str) -> dict | None:
+    """Whole answers are memoized by canonical link (a cached link then costs a decode and one
+    small look-up instead of four models' results); links with stored data are not, since a
+    data set can expire. The link's own unknown keys are the warnings."""
+    state = codec.decode(query)
+    if state.problems() or getattr(state.view, "data", None) is not None:
+        return None
+    payload = _answer(codec.encode(state))
+    if payload is None:
+        return None
+    return {**payload, "warnings": [f"{key}: unknown key, ignored" for key in state.unknown]}
 
 
 def _data_scores(state: codec.LinkState, resolved: list) -> dict:
@@ -164,6 +184,9 @@ def make_blueprint() -> Blueprint:
     def compare():
         query = request.query_string.decode("utf-8", errors="replace")
         try:
+            answer = _memoized_answer(query)
+            if answer is not None:
+                return jsonify(answer)
             payload, problem = compare_payload(query)
         except data_store.DataNotFound as err:
             return jsonify({"error": {"field": err.field, "message": str(err)}}), 404

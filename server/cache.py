@@ -53,13 +53,14 @@ _lock = threading.Lock()
 
 
 def code_fingerprint() -> str:
-    """Short hash of the model and computation source, so cached results from older code are
-    never served after an upgrade (it becomes part of the cache key prefix)."""
+    """Short hash of the model and computation source (the modules whose functions are
+    memoized, and what they read), so cached results from older code are never served after an
+    upgrade (it becomes part of the cache key prefix)."""
     root = Path(__file__).resolve().parent.parent
     digest = hashlib.sha256()
     for folder in ("model", "server"):
         for path in sorted((root / folder).glob("*.py")):
-            if folder == "server" and path.name not in ("compute.py", "codec.py", "cache.py"):
+            if folder == "server" and path.name not in ("compute.py", "codec.py", "cache.py", "api.py"):
                 continue
             digest.update(path.name.encode())
             digest.update(path.read_bytes())

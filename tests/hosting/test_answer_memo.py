@@ -1,0 +1,45 @@
+"""Whole compare answers are memoized by canonical link (what lets cached requests cost about
+as much as a trivial one): a memoized answer equals a fresh computation, keeps the link's own
+unknown-key warnings, and is shared through the cache like any model result.
+
+Check value: `server.api.compare_payload` computed directly, without the memo."""
+
+from __future__ import annotations
+
+import json
+
+from server import api
+from server import cache as memo
+
+LINK = "m1.label=Memo%20A&m1.h0=68.25&m2.label=Memo%20B&m2.wa=-0.2&z=0.4,2.2"
+
+
+def test_memoized_answer_equals_a_fresh_computation_and_keeps_warnings(app_factory):
+    app = app_factory()
+    client = app.server.test_client()
+    first = client.get(f"/api/v1/compare?{LINK}&colour=red")
+    second = client.get(f"/api/v1/compare?{LINK}&shape=round")
+    assert first.status_code == second.status_code == 200
+    assert second.headers["X-Fdesk-Cache"] == "hit"  # the same canonical link: one look-up
+    with app.server.test_request_context():
+        fresh, problem = api.compare_payload(LINK)
+    assert problem is None
+    one, two = json.loads(first.data), json.loads(second.data)
+    assert one["warnings"] == ["colour: unknown key, ignored"] and two["warnings"] == ["shape: unknown key, ignored"]
+    for body in (one, two):
+        body.pop("warnings")
+        assert body == json.loads(json.dumps({k: v for k, v in fresh.items() if k != "warnings"}))
+
+
+def test_another_worker_reads_the_whole_answer_from_the_shared_cache(app_factory):
+    assert app_factory().server.test_client().get(f"/api/v1/compare?{LINK}").status_code == 200
+    memo.flush_writes()
+    other = app_factory().server.test_client().get(f"/api/v1/compare?{LINK}")
+    assert other.status_code == 200 and other.headers["X-Fdesk-Cache"] == "hit-shared"
+
+
+def test_refused_links_are_answered_as_before(app_factory):
+    client = app_factory().server.test_client()
+    for _ in range(2):
+        response = client.get("/api/v1/compare?m1.om=abc")
+        assert response.status_code == 400 and response.get_json()["error"]["field"] == "m1.om"
