@@ -90,7 +90,8 @@ def _points_trace(points: dict, spec: dict, yaxis: str, unit: str | None = None)
         "type": "scatter", "mode": "markers", "name": name, "xaxis": "x", "yaxis": yaxis,
         "x": np.asarray(points["x"], dtype=float).tolist(), "y": np.asarray(points["y"], dtype=float).tolist(),
         "legendgroup": points.get("group", f"points-{name}"), "showlegend": points.get("showlegend", True),
-        "marker": {"color": colour, "size": points.get("size", 5), "symbol": points.get("symbol", "circle")},
+        "marker": {"color": colour, "size": points.get("size", 5), "symbol": points.get("symbol", "circle"),
+                   "opacity": points.get("opacity", 1.0)},
         "hovertemplate": (f"{spec.get('x_hover', 'x')} = %{{x:.5g}}<br>"
                           f"{points.get('y_hover', spec.get('y_hover', 'y'))} = %{{y:.5g}}{unit_text}"
                           + ("<br>%{text}" if points.get("text") is not None else "") + f"<extra>{name}</extra>"),

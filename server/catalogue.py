@@ -51,10 +51,14 @@ def _lines(handle: IO[bytes]) -> Iterator[tuple[int, str]]:
         yield number, text.rstrip("\r\n")
 
 
-def _cells(text: str) -> list[str]:
-    if '"' not in text:
+def _cells(text: str, number: int) -> list[str]:
+    if '"' not in text and "\r" not in text:
         return text.split(",")
-    return next(csv.reader([text]), [])
+    try:
+        return next(csv.reader([text], strict=True), [])
+    except csv.Error as err:
+        raise CatalogueError(number, 1, f"the line cannot be read as comma-separated cells ({err}); a quoted "
+                                        "cell must be closed on its line, and only \\n or \\r\\n end lines") from None
 
 
 def _is_content(text: str) -> bool:
@@ -67,7 +71,7 @@ def _header(handle) -> tuple[int, int, int]:
     for number, text in _lines(handle):
         if not _is_content(text):
             continue
-        names = [c.strip().lower() for c in _cells(text)]
+        names = [c.strip().lower() for c in _cells(text, number)]
         hits = [i for i, n in enumerate(names) if n == "z"]
         if len(hits) != 1:
             raise CatalogueError(number, (hits[1] + 1) if hits else 1,
@@ -99,7 +103,7 @@ def _slow_chunk(lines, z_index: int, width: int) -> list:
         if not _is_content(text):
             out.append(None)
             continue
-        cells = _cells(text)
+        cells = _cells(text, number)
         if len(cells) != width:
             raise CatalogueError(number, min(len(cells), width) + 1,
                                  f"{len(cells)} cells where the header has {width}")

@@ -618,11 +618,13 @@ def _residual_figures(c: Comparison) -> list[dict]:
             if "residual" not in r:
                 continue
             labels = [d.label[i] for i in rows]
+            # many models' points share each redshift: let the ones below show through
+            opacity = 0.55 if len(c.entries) > 1 and rows.size > 50 else 1.0
             points.append({"name": e.name, "slot": e.slot, "x": d.z[rows], "y": np.asarray(r["residual"])[rows],
-                           "error": d.error[rows], "text": labels, "group": f"slot{e.slot}"})
+                           "error": d.error[rows], "text": labels, "group": f"slot{e.slot}", "opacity": opacity})
             pulls.append({"mode": "markers", "name": e.name, "slot": e.slot, "x": d.z[rows],
                           "y": np.asarray(r["pull"])[rows], "text": labels, "showlegend": False,
-                          "group": f"slot{e.slot}", "y_hover": "pull"})
+                          "group": f"slot{e.slot}", "y_hover": "pull", "opacity": opacity})
         z = d.z[rows]
         blocks.append({"kind": "figure", "id": f"fd-fig-residual-{kind}", "spec": {
             "title": f"Residuals of {title} ({rows.size} measurements): data − model, and pulls",

@@ -98,3 +98,21 @@ def test_multipart_upload_above_the_app_wide_body_limit(client):
     r = client.post("/api/v1/catalogue?m1.h0=70", data={"redshifts": (io.BytesIO(body), "z.csv")},
                     content_type="multipart/form-data")
     assert r.status_code == 200 and r.headers["X-Rows"] == str(n)
+
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(st.one_of(st.binary(max_size=200),
+                 st.lists(st.sampled_from(list("z,0123456789.e-+ \"#\n\r") + ["nan", "1e999", "\x00", "\u00e9"]),
+                          max_size=60).map("".join).map(str.encode)))
+def test_fuzzed_redshift_files_never_give_a_server_error(client, body):
+    r = client.post("/api/v1/catalogue?m1.h0=70", data=body, content_type="text/csv")
+    assert r.status_code in (200, 400), r.get_data(as_text=True)[:300]
+    if r.status_code == 400:
+        error = r.get_json()["error"]
+        assert error["line"] >= 1 and error["column"] >= 1 and error["message"].startswith("redshift file, line")
+    else:
+        r.get_data()  # the stream runs to its end without raising
