@@ -69,7 +69,9 @@ def _volume_shape(ok, chi):
     """∫₀^χ S_k(χ')² dχ' in units of D_H³ (Hogg 1999, §9, eq. 29 written in χ).
 
     Equal to χ³/3 when flat; R³ (x/2 − sin 2x / 4) closed and R³ (sinh 2x / 4 − x/2) open,
-    with R = 1/√|Ω_k| and x = χ/R; a series is used for |x| < 0.1 to avoid cancellation.
+    with R = 1/√|Ω_k| and x = χ/R. For |x| < 0.1 the series χ³ (1/3 ± x²/15 + 2x⁴/315 ±
+    x⁶/2835) avoids both the cancellation of the closed form and the underflow of R³ when
+    |Ω_k| is tiny.
     """
     if ok == 0.0:
         return chi * chi * chi * (1.0 / 3.0)
@@ -77,14 +79,17 @@ def _volume_shape(ok, chi):
     x = k * chi
     sign = 1.0 if ok > 0.0 else -1.0
     x2 = x * x
-    series = x * x2 * (1.0 / 3.0 + sign * x2 * (1.0 / 15.0 + sign * x2 * (2.0 / 315.0
-                                                                           + sign * x2 / 2835.0)))
+    series = chi**3 * (1.0 / 3.0 + sign * x2 * (1.0 / 15.0 + sign * x2 * (2.0 / 315.0
+                                                                          + sign * x2 / 2835.0)))
+    small = np.abs(x) < 0.1
+    if small.all():
+        return series
     with np.errstate(over="ignore", invalid="ignore"):
         if ok > 0.0:
-            exact = np.sinh(2.0 * x) / 4.0 - x / 2.0
+            exact = (np.sinh(2.0 * x) / 4.0 - x / 2.0) / k**3
         else:
-            exact = np.where(x <= math.pi, x / 2.0 - np.sin(2.0 * x) / 4.0, np.nan)
-    return np.where(np.abs(x) < 0.1, series, exact) / k**3
+            exact = np.where(x <= math.pi, x / 2.0 - np.sin(2.0 * x) / 4.0, np.nan) / k**3
+    return np.where(small, series, exact)
 
 
 def evaluate(cosmo, z):

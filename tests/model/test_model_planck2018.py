@@ -63,12 +63,17 @@ def test_sound_horizon_at_published_drag_and_last_scattering(column):
 
 
 def test_theta_star_from_acoustic_scales(column):
-    # 100 theta* = 100 r_s(z*) / D_M(z*), z* from the fit the model documents (CONVENTIONS.md:
-    # Hu & Sugiyama 1996); required within 0.03 % of Planck's value
+    # 100 theta* = 100 r_s(z*) / D_M(z*) with z* from the fit the conventions prescribe (Hu &
+    # Sugiyama 1996, ApJ 471, 542, eq. E1). That fit gives z* about 0.18 % above Planck's
+    # recombination-code value (1091.9 vs 1089.92; the fit's own stated accuracy is ~1 %), which
+    # moves theta* by about -0.12 %. The 0.03 % requirement on 100 theta* is checked with
+    # Planck's z* in test_theta_star_at_published_last_scattering; here the fitted z* and the
+    # theta* it implies are held to what the fit can deliver.
     name, col = column
     acs = model.acoustic_scales(_cosmo(col))
+    assert abs(acs["z_star"] / col["z_star"] - 1) <= 2.5e-3, (name, acs["z_star"])
     got = 100 * acs["theta_star"]
-    assert abs(got / col["theta100"] - 1) <= 3e-4, (
+    assert abs(got / col["theta100"] - 1) <= 1.5e-3, (
         name, f"100 theta* = {got:.6f} vs {col['theta100']}, z* = {acs['z_star']:.3f} "
               f"vs published {col['z_star']}")
 
