@@ -17,7 +17,7 @@ from importlib import metadata
 from flask import Blueprint, current_app, jsonify, request
 
 from server import catalogue, codec, compute, data_store
-from server.cache import BudgetExceeded, cache, memoized
+from server.cache import BudgetExceeded, Uncacheable, cache, memoized
 
 __all__ = ["make_blueprint", "compare_payload", "API_VERSION"]
 
@@ -91,6 +91,16 @@ def _memoized_answer(query: str) -> dict | None:
     if payload is None:
         return None
     return {**payload, "warnings": [f"{key}: unknown key, ignored" for key in state.unknown]}
+
+
+@memoized(front_entries=1024)  # answers are ~10 kB: ~10 MB a worker
+def _answer_text(query: str) -> str:
+    """The response body for a query exactly as sent (the same link clicked again costs one
+    look-up, no decoding). Refused links raise `Uncacheable`: they are answered, not stored."""
+    answer = _memoized_answer(query)
+    if answer is None:
+        raise Uncacheable(query)
+    return current_app.json.dumps(answer) + "\n"
 
 
 def _data_scores(state: codec.LinkState, resolved: list) -> dict:
@@ -184,9 +194,11 @@ def make_blueprint() -> Blueprint:
     def compare():
         query = request.query_string.decode("utf-8", errors="replace")
         try:
-            answer = _memoized_answer(query)
-            if answer is not None:
-                return jsonify(answer)
+            if "data=" not in query:
+                try:
+                    return current_app.response_class(_answer_text(query), mimetype="application/json")
+                except Uncacheable:
+                    pass  # refused or not memoized: answered below
             payload, problem = compare_payload(query)
         except data_store.DataNotFound as err:
             return jsonify({"error": {"field": err.field, "message": str(err)}}), 404

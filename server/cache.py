@@ -38,7 +38,8 @@ from flask_caching import Cache
 from flask_caching.backends import SimpleCache
 
 __all__ = ["cache", "code_fingerprint", "memoized", "fetch_many", "flush_writes", "FRONT_ENTRIES",
-           "GuardedBackend", "guard_backend", "writable_folder", "request_cache_status", "BudgetExceeded"]
+           "GuardedBackend", "guard_backend", "writable_folder", "request_cache_status", "BudgetExceeded",
+           "Uncacheable"]
 
 logger = logging.getLogger(__name__)
 
@@ -48,7 +49,7 @@ FRONT_ENTRIES = 96  # results kept per process and backend: a model's curves are
 # encodings, so at most ~30 MB a worker (a judgement call, no source)
 _MISSING = object()
 # one front LRU per backend object, so a fresh app (as in each test) starts empty
-_fronts: "weakref.WeakKeyDictionary[Any, collections.OrderedDict]" = weakref.WeakKeyDictionary()
+_fronts: "weakref.WeakKeyDictionary[Any, dict[int, collections.OrderedDict]]" = weakref.WeakKeyDictionary()
 _lock = threading.Lock()
 
 
@@ -67,20 +68,25 @@ def code_fingerprint() -> str:
     return digest.hexdigest()[:12]
 
 
-def _front() -> collections.OrderedDict:
+def _front(entries: int = FRONT_ENTRIES) -> collections.OrderedDict:
+    """The front LRU of this backend for memoized functions bounded to `entries` results (the
+    large model results share one; small whole answers keep more in their own)."""
     backend = cache.cache
     with _lock:
-        front = _fronts.get(backend)
+        fronts = _fronts.get(backend)
+        if fronts is None:
+            fronts = _fronts[backend] = {}
+        front = fronts.get(entries)
         if front is None:
-            front = _fronts[backend] = collections.OrderedDict()
+            front = fronts[entries] = collections.OrderedDict()
         return front
 
 
-def _remember(front: collections.OrderedDict, key: str, value) -> None:
+def _remember(front: collections.OrderedDict, key: str, value, entries: int = FRONT_ENTRIES) -> None:
     with _lock:
         front[key] = value
         front.move_to_end(key)
-        while len(front) > FRONT_ENTRIES:
+        while len(front) > entries:
             front.popitem(last=False)
 
 
@@ -107,16 +113,25 @@ def _key(fn: Callable, args: tuple) -> str:
     return f"{fn.__qualname__}:{hashlib.sha1(text.encode()).hexdigest()}"
 
 
-def memoized(fn: Callable) -> Callable:
+def memoized(fn: Callable | None = None, *, front_entries: int = FRONT_ENTRIES) -> Callable:
     """Memoize `fn` (positional, hashable arguments with a canonical repr) in the front LRU and
-    the shared cache. None is a result like any other (stored wrapped in a tuple)."""
+    the shared cache. None is a result like any other (stored wrapped in a tuple). Small
+    results may ask for a longer front LRU of their own (``@memoized(front_entries=1024)``)."""
+    if fn is None:
+        return functools.partial(memoized, front_entries=front_entries)
 
     @functools.wraps(fn)
     def wrapper(*args):
         return fetch_many(wrapper, [args])[0]
 
     wrapper.uncached = fn
+    wrapper.front_entries = front_entries
     return wrapper
+
+
+class Uncacheable(Exception):
+    """Raised by a memoized function for arguments whose result is not worth storing (a
+    refused link, say): `fetch_many` passes it on and neither caches nor counts it."""
 
 
 class BudgetExceeded(Exception):
@@ -136,6 +151,12 @@ def _count(kind: str, n: int) -> None:
     if n and has_request_context():
         counts = request.environ.setdefault(_COUNTS, {"local": 0, "shared": 0, "computed": 0})
         counts[kind] += n
+
+
+def _looked_up() -> int:
+    if not has_request_context():
+        return 0
+    return sum(request.environ.get(_COUNTS, {}).values())
 
 
 def request_cache_status(environ: dict) -> str:
@@ -166,7 +187,8 @@ def fetch_many(memo: Callable, calls: Iterable[tuple], return_exceptions: bool =
     fn = memo.uncached
     calls = list(calls)
     keys = [_key(fn, args) for args in calls]
-    front = _front()
+    entries = getattr(memo, "front_entries", FRONT_ENTRIES)
+    front = _front(entries)
     results = [_recall(front, k) for k in keys]
     missing = [i for i, r in enumerate(results) if r is _MISSING]
     _count("local", len(calls) - len(missing))
@@ -179,16 +201,23 @@ def fetch_many(memo: Callable, calls: Iterable[tuple], return_exceptions: bool =
                 _count("shared", 1)
             else:
                 _check_budget()
-                _count("computed", 1)
+                before = _looked_up()
+                worked = True
                 try:
                     results[i] = _freeze(fn(*calls[i]))
+                except Uncacheable:
+                    worked = False
+                    raise
                 except Exception as err:  # noqa: BLE001 - handed back to the caller who asked for it
                     if not return_exceptions:
                         raise
                     results[i] = err
                     continue
+                finally:
+                    if worked and _looked_up() == before:  # it computed by itself; a composite's
+                        _count("computed", 1)              # own look-ups tell how it went
                 fresh[keys[i]] = (results[i],)
-            _remember(front, keys[i], results[i])
+            _remember(front, keys[i], results[i], entries)
         if fresh:
             _write_behind(cache.cache, fresh)
     return results

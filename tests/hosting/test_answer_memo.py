@@ -43,3 +43,23 @@ def test_refused_links_are_answered_as_before(app_factory):
     for _ in range(2):
         response = client.get("/api/v1/compare?m1.om=abc")
         assert response.status_code == 400 and response.get_json()["error"]["field"] == "m1.om"
+
+
+def test_small_results_keep_a_longer_front_of_their_own(app_factory):
+    calls = []
+
+    def square(x):
+        calls.append(x)
+        return x * x
+
+    square.__qualname__ = f"square_{id(calls)}"  # a key space of its own for this test
+    long_front = memo.memoized(square, front_entries=memo.FRONT_ENTRIES * 2)
+    app = app_factory()
+    n = memo.FRONT_ENTRIES + 20  # more than the default front holds
+    with app.server.test_request_context():
+        assert [long_front(float(i)) for i in range(n)] == [float(i * i) for i in range(n)]
+    memo.flush_writes()
+    with app.server.test_request_context() as context:
+        assert long_front(0.0) == 0.0  # still in this process's memory, not re-read
+        assert memo.request_cache_status(context.request.environ) == "hit"
+    assert len(calls) == n

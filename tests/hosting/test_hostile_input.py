@@ -42,6 +42,7 @@ def _query(pairs) -> str:
 
 def _keys_of(raw: bytes | str) -> set[str]:
     text = raw.decode("utf-8", errors="replace") if isinstance(raw, bytes) else raw
+    text = text.lstrip("?")  # a leading "?" belongs to the link's syntax, as in the codec
     return {k for k, _ in urllib.parse.parse_qsl(text, keep_blank_values=True, errors="replace")}
 
 
