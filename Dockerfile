@@ -27,5 +27,5 @@ RUN pip install -c constraints.txt ".[web]"
 
 USER fdesk
 EXPOSE 8050
-HEALTHCHECK --interval=30s --timeout=10s --start-period=30s --retries=3 CMD python -m server.healthcheck
+HEALTHCHECK --interval=30s --timeout=10s --start-period=30s --retries=3 CMD python server/healthcheck.py
 CMD exec gunicorn --no-control-socket -w "$WORKERS" -b "$HOST:$PORT" server.wsgi:application

@@ -36,7 +36,7 @@ def test_dockerfile_is_slim_non_root_and_installs_the_project_with_pins():
     assert _instruction("USER") not in ("root", "0")
     assert 'RUN pip install -c constraints.txt ".[web]"' in DOCKERFILE.splitlines()
     assert "PORT=" in DOCKERFILE and "WORKERS=" in DOCKERFILE
-    assert "server.healthcheck" in _instruction("HEALTHCHECK")
+    assert "server/healthcheck.py" in _instruction("HEALTHCHECK")
     # the documented production command, with PORT/WORKERS from the environment
     assert _instruction("CMD") == 'exec gunicorn --no-control-socket -w "$WORKERS" -b "$HOST:$PORT" server.wsgi:application'
     readme = (ROOT / "README.md").read_text()
@@ -142,3 +142,12 @@ def test_the_installed_package_carries_the_page_assets(tmp_path):
     built = {str(p.relative_to(tmp_path / "lib")) for p in (tmp_path / "lib").rglob("*") if p.is_file()}
     assert "layouts/assets/style.css" in built
     assert {"server/wsgi.py", "server/healthcheck.py", "model/__init__.py"} <= built
+
+
+def test_healthcheck_reads_the_prefix_as_the_app_does():
+    from server import healthcheck
+    from server.config import normalise_prefix
+
+    for text in ("", "/", "cosmo", "/cosmo", "/cosmo/", "a/b", "//a//b//"):
+        url = healthcheck.health_url({"PORT": "9", "FDESK_URL_PREFIX": text})
+        assert url == f"http://127.0.0.1:9{normalise_prefix(text)}healthz"
