@@ -96,6 +96,19 @@ def test_page_update_through_the_prefix_answers_with_the_link_labels(docker_star
     assert "Prefix check" in body.decode()
 
 
+def test_over_long_links_are_refused_by_the_app_or_by_gunicorn_never_a_5xx(docker_start_command):
+    port = docker_start_command.port
+    from server import codec
+
+    just_over = "/cosmo/api/v1/compare?m1.label=" + "x" * (codec.MAX_QUERY_LENGTH - 5)
+    status, _, body = get(port, just_over)  # still within gunicorn's 4094-byte request line
+    assert status == 414 and json.loads(body)["error"]["field"] == "query"
+    # 100 kB: past gunicorn's request-line limit, which answers 414 (plain text) itself
+    status, headers, body = get(port, "/cosmo/api/v1/compare?z=" + "1," * 50_000)
+    assert status == 414 and b"Request Line is too large" in body, body[:200]
+    assert get(port, "/cosmo/healthz")[0] == 200  # and the workers carry on
+
+
 def test_one_log_line_per_request_on_stdout_without_the_query(docker_start_command):
     port = docker_start_command.port
     marker = "Secret%20label%20Zq7"
@@ -104,7 +117,7 @@ def test_one_log_line_per_request_on_stdout_without_the_query(docker_start_comma
     assert get(port, "/cosmo/api/v1/compare?m1.label=Bad%20Zq7&m1.om=not-a-number")[0] == 400
     lines = [line for line in docker_start_command.stdout().splitlines() if " /cosmo/api/v1/compare " in line]
     assert len(lines) >= 4
-    pattern = re.compile(r"\S+Z GET /cosmo/api/v1/compare (200|400) \d+\.\d ms cache=(hit|hit-shared|miss|-) pid=\d+")
+    pattern = re.compile(r"\S+Z GET /cosmo/api/v1/compare (200|400|414) \d+\.\d ms cache=(hit|hit-shared|miss|-) pid=\d+")
     assert all(pattern.fullmatch(line) for line in lines), lines
     assert "Zq7" not in docker_start_command.stdout() + docker_start_command.stderr()
 
