@@ -93,10 +93,12 @@ def _memoized_answer(query: str) -> dict | None:
     return {**payload, "warnings": [f"{key}: unknown key, ignored" for key in state.unknown]}
 
 
-@memoized(front_entries=1024)  # answers are ~10 kB: ~10 MB a worker
+@memoized(front_entries=1024, shared=False)  # answers are ~10 kB: ~10 MB a worker
 def _answer_text(query: str) -> str:
-    """The response body for a query exactly as sent (the same link clicked again costs one
-    look-up, no decoding). Refused links raise `Uncacheable`: they are answered, not stored."""
+    """The response body for a query exactly as sent (the same link clicked again is answered
+    from the worker's memory, without decoding). In process only: anyone can vary a query's
+    spelling for free, so these must not fill the shared cache (`_answer`, by canonical link,
+    is shared). Refused links raise `Uncacheable`: they are answered, not stored."""
     answer = _memoized_answer(query)
     if answer is None:
         raise Uncacheable(query)

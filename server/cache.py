@@ -113,12 +113,15 @@ def _key(fn: Callable, args: tuple) -> str:
     return f"{fn.__qualname__}:{hashlib.sha1(text.encode()).hexdigest()}"
 
 
-def memoized(fn: Callable | None = None, *, front_entries: int = FRONT_ENTRIES) -> Callable:
+def memoized(fn: Callable | None = None, *, front_entries: int = FRONT_ENTRIES, shared: bool = True) -> Callable:
     """Memoize `fn` (positional, hashable arguments with a canonical repr) in the front LRU and
     the shared cache. None is a result like any other (stored wrapped in a tuple). Small
-    results may ask for a longer front LRU of their own (``@memoized(front_entries=1024)``)."""
+    results may ask for a longer front LRU of their own (``@memoized(front_entries=1024)``);
+    ``shared=False`` keeps them in the process only (for keys a client can vary at no cost,
+    which must not crowd the shared cache); such a function must be a cheap composition of
+    other memoized calls, which are the ones held to the request's time budget."""
     if fn is None:
-        return functools.partial(memoized, front_entries=front_entries)
+        return functools.partial(memoized, front_entries=front_entries, shared=shared)
 
     @functools.wraps(fn)
     def wrapper(*args):
@@ -126,6 +129,7 @@ def memoized(fn: Callable | None = None, *, front_entries: int = FRONT_ENTRIES) 
 
     wrapper.uncached = fn
     wrapper.front_entries = front_entries
+    wrapper.shared = shared
     return wrapper
 
 
@@ -188,19 +192,21 @@ def fetch_many(memo: Callable, calls: Iterable[tuple], return_exceptions: bool =
     calls = list(calls)
     keys = [_key(fn, args) for args in calls]
     entries = getattr(memo, "front_entries", FRONT_ENTRIES)
+    shared = getattr(memo, "shared", True)
     front = _front(entries)
     results = [_recall(front, k) for k in keys]
     missing = [i for i, r in enumerate(results) if r is _MISSING]
     _count("local", len(calls) - len(missing))
     if missing:
-        stored = cache.get_many(*[keys[i] for i in missing])
+        stored = cache.get_many(*[keys[i] for i in missing]) if shared else [None] * len(missing)
         fresh = {}
         for i, box in zip(missing, stored):
             if isinstance(box, tuple) and len(box) == 1:
                 results[i] = _freeze(box[0])
                 _count("shared", 1)
             else:
-                _check_budget()
+                if shared:  # in-process memos are cheap compositions: what they call is checked
+                    _check_budget()
                 before = _looked_up()
                 worked = True
                 try:
@@ -218,7 +224,7 @@ def fetch_many(memo: Callable, calls: Iterable[tuple], return_exceptions: bool =
                         _count("computed", 1)              # own look-ups tell how it went
                 fresh[keys[i]] = (results[i],)
             _remember(front, keys[i], results[i], entries)
-        if fresh:
+        if fresh and shared:
             _write_behind(cache.cache, fresh)
     return results
 

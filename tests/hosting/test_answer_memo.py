@@ -63,3 +63,17 @@ def test_small_results_keep_a_longer_front_of_their_own(app_factory):
         assert long_front(0.0) == 0.0  # still in this process's memory, not re-read
         assert memo.request_cache_status(context.request.environ) == "hit"
     assert len(calls) == n
+
+
+def test_spellings_of_a_link_are_kept_per_process_only(app_factory):
+    app = app_factory()
+    client = app.server.test_client()
+    for extra in ("a", "b", "c"):  # three spellings (unknown keys) of one canonical link
+        assert client.get(f"/api/v1/compare?{LINK}&{extra}=1").status_code == 200
+    memo.flush_writes()
+    backend = app.server.extensions["cache"][memo.cache].primary
+    answers = [k for k in backend._list_dir()] if hasattr(backend, "_list_dir") else []
+    # the shared folder holds the two models, their values and one canonical answer, not three
+    other = app_factory().server.test_client().get(f"/api/v1/compare?{LINK}&d=1")
+    assert other.headers["X-Fdesk-Cache"] == "hit-shared"
+    assert len(answers) == 2 + 2 + 1
