@@ -70,7 +70,7 @@ def test_frame_ancestors_can_name_a_site_that_embeds_the_page(app_factory):
     assert _csp(app.server.test_client().get("/"))["frame-ancestors"] == ["'self'", "https://wiki.example.org"]
 
 
-def test_debug_and_dev_tools_are_off_unless_asked(client, monkeypatch):
+def test_debug_and_dev_tools_are_off_unless_asked(client, monkeypatch, tmp_path):
     page = client.get("/").get_data(as_text=True)
     config = json.loads(re.search(r'<script id="_dash-config" type="application/json">(.*?)</script>', page).group(1))
     assert config["ui"] is False and config.get("hot_reload") in (None, False)
@@ -81,6 +81,8 @@ def test_debug_and_dev_tools_are_off_unless_asked(client, monkeypatch):
 
     seen = []
     monkeypatch.setattr(dash.Dash, "run", lambda self, **kw: seen.append(kw))
+    monkeypatch.setattr(entry, "settle_heap", lambda: None)  # gc.freeze is for serving processes only
+    monkeypatch.setenv("FDESK_CACHE_DIR", str(tmp_path))
     monkeypatch.setenv("DASH_DEBUG", "true")  # the environment alone does not switch it on
     entry.main(["--port", "8999"])
     entry.main(["--port", "8999", "--debug"])
