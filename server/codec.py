@@ -334,6 +334,8 @@ def _apply_model(slot: int, pairs: list[tuple[str, str]]) -> ModelState:
         name, value = outcome
         if name == "omega_de" and value is None:
             continue  # an emptied Ω_de input means: back to the flat default
+        if name == "omega_k" and not raw.strip():
+            continue  # so does an emptied Ω_k input: it must not count as given beside Ω_de
         changes[name] = value
     ok_given = "omega_k" in changes and "ok" not in invalid
     ode_given = "omega_de" in changes and "ode" not in invalid
@@ -535,7 +537,9 @@ def _model_pairs(m: ModelState) -> list[tuple[str, str]]:
             out.append((key, invalid[key]))
             continue
         value = getattr(m, name)
-        if value == getattr(defaults, name) and not (name == "omega_k" and m.omega_de is not None):
+        # Ω_k is written even at its default when Ω_de is the input or was refused beside it
+        keep_ok = name == "omega_k" and (m.omega_de is not None or "ode" in invalid)
+        if value == getattr(defaults, name) and not keep_ok:
             continue
         if value is None:
             continue
