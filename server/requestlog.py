@@ -3,7 +3,8 @@
 The line is ``<UTC time> <method> <path> <status> <ms> ms cache=<hit|hit-shared|miss|-> pid=<n>``:
 the path only, percent-encoded (so no typed text, newline or label of the query reaches the
 log), and the cache outcome of the request's model look-ups (`server.cache.request_cache_status`),
-which is also sent as the ``X-Fdesk-Cache`` response header.
+which is also sent as the ``X-Fdesk-Cache`` response header. The time is until the app hands
+back its response: for a streamed answer (the catalogue CSV) that is the time to its first byte.
 
 `RedactExceptions` (a filter on the app's logger) renders exception tracebacks with the
 exception's type but without its message, since messages can quote what a user typed (a label,
