@@ -234,34 +234,71 @@ def fetch_many(memo: Callable, calls: Iterable[tuple], return_exceptions: bool =
 # response: the front LRU already holds the results, and the other workers see them moments
 # later. A full queue drops the write (the entry is then simply computed again elsewhere).
 _queue: "queue.Queue[tuple[Any, dict]]" = queue.Queue(maxsize=256)
-_writer: dict = {"pid": None}
+_writer: dict = {"pid": None, "thread": None}
+
+
+def _store(backend, mapping: dict) -> None:
+    try:
+        backend.set_many(mapping)
+    except BaseException:  # noqa: BLE001 - a failed write only costs a recomputation
+        logger.warning("could not store %d results in the shared cache", len(mapping), exc_info=True)
 
 
 def _write_loop() -> None:
     while True:
         backend, mapping = _queue.get()
         try:
-            backend.set_many(mapping)
-        except Exception:  # noqa: BLE001 - a failed write only costs a recomputation
-            logger.warning("could not store %d results in the shared cache", len(mapping), exc_info=True)
+            _store(backend, mapping)
         finally:
             _queue.task_done()
 
 
-def _write_behind(backend, mapping: dict) -> None:
+def _ensure_writer() -> None:
     with _lock:
-        if _writer["pid"] != os.getpid():  # first write in this process (or after a fork)
+        thread = _writer["thread"]
+        if _writer["pid"] != os.getpid() or thread is None or not thread.is_alive():
+            # first write in this process, after a fork, or the thread could not start or died
             _writer["pid"] = os.getpid()
-            threading.Thread(target=_write_loop, name="fdesk-cache-writer", daemon=True).start()
+            thread = threading.Thread(target=_write_loop, name="fdesk-cache-writer", daemon=True)
+            _writer["thread"] = thread
+            thread.start()
+
+
+def _write_behind(backend, mapping: dict) -> None:
+    try:
+        _ensure_writer()
+    except RuntimeError:  # no thread to be had: write now instead
+        _store(backend, mapping)
+        return
     try:
         _queue.put_nowait((backend, mapping))
     except queue.Full:
         logger.warning("shared-cache write queue full; %d results kept in this process only", len(mapping))
 
 
-def flush_writes() -> None:
-    """Wait until every queued shared-cache write is done (tests, benchmarks, shutdown)."""
-    _queue.join()
+def flush_writes(timeout: float = 60.0) -> None:
+    """Wait until every queued shared-cache write is done (tests, benchmarks, shutdown).
+
+    Never waits for ever: if the writer thread is gone, the calling thread drains the queue
+    itself, and after ``timeout`` seconds it gives up with a warning.
+    """
+    deadline = time.monotonic() + timeout
+    while _queue.unfinished_tasks:
+        thread = _writer["thread"]
+        if thread is None or not thread.is_alive() or _writer["pid"] != os.getpid():
+            try:
+                backend, mapping = _queue.get_nowait()
+            except queue.Empty:
+                return
+            try:
+                _store(backend, mapping)
+            finally:
+                _queue.task_done()
+            continue
+        if time.monotonic() > deadline:
+            logger.warning("shared-cache writes still pending after %.0f s", timeout)
+            return
+        time.sleep(0.005)
 
 
 # ----------------------------------------------------------------------------- a guarded backend
