@@ -251,13 +251,12 @@ class Cosmology:
         return cls(omega_k=omega_k, **kwargs)
 
     def replace(self, **changes):
-        """A new, validated model with some inputs changed.
+        """A new, validated model with the named inputs changed and every other kept.
 
-        A default Ω_b (the cosmic baryon fraction of the cold matter) is derived afresh
-        from the new inputs unless ``omega_b`` is among the changes.
+        Ω_b keeps its value (also when it was derived from the default baryon fraction);
+        pass ``omega_b=None`` to derive it afresh from the new Ω_m. The fits and Δχ² maps
+        rely on this: floating Ω_m holds the baryon density fixed.
         """
-        if not self._derived["baryons_given"] and "omega_b" not in changes:
-            changes["omega_b"] = None
         return dataclasses.replace(self, **changes)
 
     def to_dict(self):
