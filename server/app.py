@@ -14,6 +14,7 @@ from server.config import ENV_PREFIX, default_config, normalise_prefix, redis_op
 from server.headers import SecurityHeaders, content_security_policy, security_headers
 from server.limits import install_limits
 from server.requestlog import RedactExceptions, RequestLog
+from server.responses import install_response_cache
 
 __all__ = ["create_app", "settle_heap"]
 
@@ -77,6 +78,7 @@ def create_app(config: dict | None = None) -> dash.Dash:
     )
     app.layout = page(callbacks.page_options())
     callbacks.register(app)
+    install_response_cache(flask_app)
     csp = content_security_policy(app.csp_hashes(), flask_app.config["FRAME_ANCESTORS"])
     flask_app.wsgi_app = RequestLog(SecurityHeaders(flask_app.wsgi_app, security_headers(csp)))
     return app

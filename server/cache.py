@@ -147,7 +147,7 @@ class BudgetExceeded(Exception):
         self.budget = budget
 
 
-_COUNTS = "fdesk.cache"  # request environ key: {"local": n, "shared": n, "computed": n}
+_COUNTS = CACHE_COUNTS = "fdesk.cache"  # request environ key: {"local": n, "shared": n, "computed": n}
 _DEADLINE = "fdesk.deadline"  # request environ key: (monotonic deadline, budget in s)
 
 
@@ -274,6 +274,17 @@ def _write_behind(backend, mapping: dict) -> None:
         _queue.put_nowait((backend, mapping))
     except queue.Full:
         logger.warning("shared-cache write queue full; %d results kept in this process only", len(mapping))
+
+
+def store_behind(key: str, value: Any, timeout: int | None = None) -> None:
+    """Put one value in the shared cache after the response (by the writer thread)."""
+    backend = cache.cache
+
+    class _WithTimeout:  # set_many with this entry's own time to live
+        def set_many(self, mapping):
+            return backend.set_many(mapping, timeout=timeout)
+
+    _write_behind(_WithTimeout(), {key: value})
 
 
 def flush_writes(timeout: float = 60.0) -> None:
