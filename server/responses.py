@@ -21,6 +21,7 @@ import collections
 import hashlib
 import threading
 import time
+from pathlib import Path
 
 from flask import Flask, Response, g, request
 
@@ -33,7 +34,22 @@ PANEL_OUTPUT = b'"..fd-panel.children'  # start of that callback's multi-output 
 TTL_SECONDS = 600.0
 MAX_BYTES = 64 * 1024 * 1024
 _MAX_BODY = 256 * 1024  # larger bodies are not the panel callback's
-_SHARED_PREFIX = "panel-response:"
+
+
+
+def _page_code_fingerprint() -> str:
+    """Hash of everything that shapes a panel (server/ and layouts/ sources): the shared-cache
+    key carries it, so another version's answers are never served after an upgrade."""
+    root = Path(__file__).resolve().parent.parent
+    digest = hashlib.sha256()
+    for folder in ("server", "layouts"):
+        for path in sorted((root / folder).glob("*.py")):
+            digest.update(path.name.encode())
+            digest.update(path.read_bytes())
+    return digest.hexdigest()[:12]
+
+
+_SHARED_PREFIX = f"panel-response-{_page_code_fingerprint()}:"
 
 
 class ResponseStore:
