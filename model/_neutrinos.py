@@ -19,6 +19,8 @@ import math
 
 import numpy as np
 
+from . import _hermite as hermite
+
 __all__ = ["fermi_dirac", "LOG_Y_MIN", "LOG_Y_MAX"]
 
 _NORM = 120.0 / (7.0 * math.pi**4)
@@ -60,25 +62,9 @@ def _table():
 
 @functools.cache
 def _coefficients():
-    """Cubic coefficients per interval of F and of g = dF/d ln y (Hermite, see fermi_dirac)."""
+    """Hermite coefficients of F and of g = dF/d ln y on the ln y grid."""
     _, f, g, dg = _table()
-    out = []
-    for v, dv in ((f, g), (g, dg)):
-        f0, f1, d0, d1 = v[:-1], v[1:], _STEP * dv[:-1], _STEP * dv[1:]
-        out.append((f0, d0, 3.0 * (f1 - f0) - 2.0 * d0 - d1, 2.0 * (f0 - f1) + d0 + d1))
-    return out
-
-
-def _horner(coef, i, t):
-    c0, c1, c2, c3 = coef
-    out = np.take(c3, i)
-    out *= t
-    out += np.take(c2, i)
-    out *= t
-    out += np.take(c1, i)
-    out *= t
-    out += np.take(c0, i)
-    return out
+    return hermite.coefficients(f, g, _STEP), hermite.coefficients(g, dg, _STEP)
 
 
 def fermi_dirac(y):
@@ -125,8 +111,8 @@ def fermi_dirac(y):
         np.clip(s, 0.0, len(log_y_tab) - 1.0 - 1e-9, out=s)
         i = s.astype(np.intp)
         t = s - i
-        f = _horner(f_coef, i, t)
-        g = _horner(g_coef, i, t)
+        f = hermite.evaluate(f_coef, i, t)
+        g = hermite.evaluate(g_coef, i, t)
         dg = np.interp(log_y, log_y_tab, dg_tab)
         small = log_y < LOG_Y_MIN
         if small.any():

@@ -23,6 +23,7 @@ import functools
 import math
 
 import numpy as np
+from . import _hermite as hermite
 from ._background import check_big_bang, components_x
 
 __all__ = ["tables", "per_model", "STEP", "U_MIN", "U_MAX", "Tables"]
@@ -127,23 +128,10 @@ class Tables:
         self._coefficients = {}
 
     def coefficients(self, name):
-        """Cubic coefficients per interval of one column: four arrays of length n − 1.
-
-        On [u_i, u_i + h] the Hermite interpolant is c0 + c1 t + c2 t² + c3 t³, t = (u − u_i)/h.
-        """
+        """Cubic Hermite coefficients per interval of one column (see ``model._hermite``)."""
         found = self._coefficients.get(name)
         if found is None:
-            h = STEP
-            v, dv = self.values[name], self.slopes[name]
-            f0, f1, d0, d1 = v[:-1], v[1:], h * dv[:-1], h * dv[1:]
-            with np.errstate(invalid="ignore"):
-                c2 = 3.0 * (f1 - f0) - 2.0 * d0 - d1
-                c3 = 2.0 * (f0 - f1) + d0 + d1
-            # An infinite column (the age of a model without a big bang) stays infinite.
-            endless = np.isinf(f0) & np.isinf(f1) & (np.sign(f0) == np.sign(f1))
-            if endless.any():
-                d0, c2, c3 = (np.where(endless, 0.0, c) for c in (d0, c2, c3))
-            found = tuple(np.ascontiguousarray(c) for c in (f0, d0, c2, c3))
+            found = hermite.coefficients(self.values[name], self.slopes[name], STEP)
             self._coefficients[name] = found
         return found
 
@@ -158,15 +146,7 @@ class Tables:
     def interpolate(self, name, where):
         """Hermite-interpolate one column at the positions ``where = locate(u)``."""
         i, t = where
-        c0, c1, c2, c3 = self.coefficients(name)
-        out = np.take(c3, i)
-        out *= t
-        out += np.take(c2, i)
-        out *= t
-        out += np.take(c1, i)
-        out *= t
-        out += np.take(c0, i)
-        return out
+        return hermite.evaluate(self.coefficients(name), i, t)
 
 
 def per_model(build, size=64):
