@@ -116,8 +116,11 @@ def _fast_chunk(lines, z_index: int, width: int):
     `width` cells) by numpy's C parser, or None when anything is unusual or wrong: the slow
     path then names the line and column."""
     texts = [text for _, text in lines]
-    commas = width - 1
-    if any(t.count(",") != commas or not t.strip() or t.lstrip()[0] == "#" or '"' in t for t in texts):
+    joined = "\n".join(texts)
+    # whole-chunk checks (a line with a wrong cell count that others make up for, or a blank
+    # line of spaces, makes numpy's parser fail below, which also sends the chunk to the slow path)
+    if ('"' in joined or "#" in joined or "\n\n" in joined or not joined.strip()
+            or joined.count(",") != (width - 1) * len(texts)):
         return None
     try:
         z = np.loadtxt(texts, delimiter=",", usecols=[z_index], comments=None, dtype=float, ndmin=1)
@@ -167,15 +170,68 @@ def column_names(models: list[tuple[int, object]]) -> list[str]:
             for key, (unit, _) in model.QUANTITIES.items()]
 
 
+_CELL = 16  # sign, d, ".", 8 digits, "e", sign, 3 exponent digits: 9 significant digits
+_SPACE, _ZERO = ord(" "), ord("0")
+_POW10 = 10 ** np.arange(8, -1, -1, dtype=np.int64)  # place values of the 9 mantissa digits
+_SCALE_ZERO = 330
+with np.errstate(over="ignore"):
+    _SCALE = 10.0 ** np.arange(-_SCALE_ZERO, _SCALE_ZERO + 1, dtype=float)  # 10^k, looked up
+
+
+def _cells_of(values: np.ndarray) -> np.ndarray:
+    """Fixed-width ASCII cells (uint8, shape (n, 16)) of ``values`` with 9 significant digits,
+    padded with spaces that `_format_block` removes afterwards: ``-1.23456789e+ 03`` becomes
+    ``-1.23456789e+03``; NaN is an empty cell. All in numpy, without a Python loop per number
+    (which would cost ~0.25 µs per number, 17 per row)."""
+    v = np.asarray(values, dtype=float)
+    n = v.size
+    out = np.full((n, _CELL), _SPACE, dtype=np.uint8)
+    a = np.abs(v)
+    regular = np.isfinite(v) & ((a >= 1e-290) | (a == 0.0))
+    a = np.where(regular, a, 0.0)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        e = np.floor(np.log10(np.where(a > 0.0, a, 1.0))).astype(np.int64)
+        m = np.rint(a * np.take(_SCALE, _SCALE_ZERO + 8 - e))
+        # log10 rounded the wrong way, or the rounding carried into a tenth digit: redo those
+        fix = np.flatnonzero((m >= 1e9) | ((m < 1e8) & (a > 0.0)))
+        for _ in range(2):
+            if not fix.size:
+                break
+            e[fix] += np.where(m[fix] >= 1e9, 1, -1)
+            m[fix] = np.rint(a[fix] * np.take(_SCALE, _SCALE_ZERO + 8 - e[fix]))
+            fix = fix[(m[fix] >= 1e9) | ((m[fix] < 1e8) & (a[fix] > 0.0))]
+    m = m.astype(np.int64)
+    out[:, 0] = np.where(v < 0.0, ord("-"), _SPACE)
+    out[:, 1:11] = ord(".")
+    for place, column in zip(_POW10, (1, 3, 4, 5, 6, 7, 8, 9, 10)):
+        out[:, column] = (m // place) % 10 + _ZERO
+    out[:, 11] = ord("e")
+    out[:, 12] = np.where(e < 0, ord("-"), ord("+"))
+    ae = np.abs(e)
+    out[:, 13] = np.where(ae >= 100, ae // 100 + _ZERO, _SPACE)
+    out[:, 14] = (ae // 10) % 10 + _ZERO
+    out[:, 15] = ae % 10 + _ZERO
+    irregular = np.flatnonzero(~regular)
+    if irregular.size:
+        out[irregular] = _SPACE  # NaN stays an empty cell
+    for k in irregular[~np.isnan(v[irregular])]:  # infinities and the tiniest numbers
+        text = ("%.9g" % v[k]).encode("ascii")
+        out[k, _CELL - len(text):] = np.frombuffer(text, dtype=np.uint8)
+    return out
+
+
 def _format_block(columns: list[np.ndarray]) -> list[str]:
-    """Rows of ``%.9g`` cells (NaN left empty). One format call for the whole block: Python's
-    float formatting is the cost, and a per-row format and tuple would add half again."""
+    """Rows of 9-significant-digit cells, comma-separated (NaN left empty)."""
     if not columns or not len(columns[0]):
         return []
-    line = ",".join(["%.9g"] * len(columns)) + "\n"
-    flat = np.column_stack(columns).ravel().tolist()
-    block = (line * len(columns[0])) % tuple(flat)
-    return block.replace("nan", "").split("\n")[:-1]
+    n, k = len(columns[0]), len(columns)
+    block = np.empty((n, k * (_CELL + 1)), dtype=np.uint8)
+    for j, col in enumerate(columns):
+        start = j * (_CELL + 1)
+        block[:, start:start + _CELL] = _cells_of(col)
+        block[:, start + _CELL] = ord(",")
+    block[:, -1] = ord("\n")
+    return block.tobytes().decode("ascii").replace(" ", "").split("\n")[:-1]
 
 
 def stream(handle, models: list[tuple[int, model.Cosmology]]) -> Iterator[str]:
