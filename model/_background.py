@@ -15,7 +15,8 @@ from scipy import optimize
 from ._errors import NoBigBangError
 from ._neutrinos import fermi_dirac
 
-__all__ = ["components", "components_x", "hubble_squared", "hubble_squared_x", "check_big_bang", "dark_energy_factor"]
+__all__ = ["components", "components_x", "hubble_squared", "hubble_squared_x", "budget_total",
+           "neutrino_terms", "check_big_bang", "dark_energy_factor"]
 
 
 def dark_energy_factor(cosmo, x, u=None):
@@ -29,18 +30,20 @@ def dark_energy_factor(cosmo, x, u=None):
 
 
 def neutrino_terms(cosmo, x):
-    """Massive neutrinos: Σ F_i and Σ (2F_i − g_i) per massless-equivalent species.
+    """Massive neutrinos, summed over species, per massless-equivalent species.
 
-    Multiplied by Ω_ν1 x⁴ they give ρ_ν and (1 + 3w_ν) ρ_ν of the massive species.
+    Returns Σ F_i, Σ (2F_i − g_i), Σ g_i and Σ dg_i/d ln y (see ``fermi_dirac``): multiplied
+    by Ω_ν1 x⁴ the first two give ρ_ν and (1 + 3w_ν) ρ_ν of the massive species.
     """
-    d = cosmo._derived
-    total = np.zeros_like(x)
-    weighted = np.zeros_like(x)
-    for y0 in d["y0"]:
-        f, g, _ = fermi_dirac(y0 / x)
-        total += f
-        weighted += 2.0 * f - g
-    return total, weighted
+    x = np.asarray(x, dtype=float)
+    sums = [np.zeros_like(x) for _ in range(4)]
+    for y0 in cosmo._derived["y0"]:
+        f, g, dg = fermi_dirac(y0 / x)
+        sums[0] += f
+        sums[1] += 2.0 * f - g
+        sums[2] += g
+        sums[3] += dg
+    return tuple(sums)
 
 
 def components(cosmo, z):
@@ -64,7 +67,7 @@ def components_x(cosmo, x):
     x2 = x * x
     x3 = x2 * x
     x4 = x2 * x2
-    nu_total, nu_weighted = neutrino_terms(cosmo, x)
+    nu_total, nu_weighted, _, _ = neutrino_terms(cosmo, x)
     de = cosmo.omega_de * dark_energy_factor(cosmo, x)
     w_de = cosmo.w0 + cosmo.wa * (1.0 - 1.0 / x)
     out = {
@@ -91,10 +94,17 @@ def hubble_squared(cosmo, z):
 
 def hubble_squared_x(cosmo, x):
     """E² at x = 1 + z = 1/a."""
-    c = components_x(cosmo, x)
+    return budget_total(components_x(cosmo, x))
+
+
+_BUDGET = ("photons", "neutrinos_massless", "neutrinos_massive", "baryons", "cold_dark_matter",
+           "dark_energy", "curvature")
+
+
+def budget_total(c):
+    """E² = Σ of the densities and the curvature term of a :func:`components_x` dict."""
     with np.errstate(invalid="ignore"):
-        return (c["photons"] + c["neutrinos_massless"] + c["neutrinos_massive"] + c["baryons"]
-                + c["cold_dark_matter"] + c["dark_energy"] + c["curvature"])
+        return sum(c[k] for k in _BUDGET)
 
 
 def _e2_of_u(cosmo, u):

@@ -1,10 +1,12 @@
 """Public views of the energy budget: Ω_i(z), ρ_i(z), w(z)."""
 
+import math
+
 import numpy as np
 
 from . import _constants as const
 from ._background import components
-from ._errors import ParameterError
+from ._distances import as_redshifts
 
 __all__ = ["density_parameters", "densities", "w_dark_energy", "w_effective", "COMPONENTS"]
 
@@ -12,15 +14,8 @@ COMPONENTS = ("photons", "neutrinos", "baryons", "cold_dark_matter", "dark_energ
 
 
 def _scale_factors(z, name="z"):
-    try:
-        arr = np.asarray(z, dtype=float)
-    except (TypeError, ValueError):
-        raise ParameterError(name, z, "numbers z > −1", "not numbers") from None
-    if arr.size and not (np.all(np.isfinite(arr)) and arr.min() > -1.0):
-        bad = arr[~(np.isfinite(arr) & (arr > -1.0))].ravel()[0]
-        raise ParameterError(name, float(bad), "z > −1 (scale factor a > 0)",
-                             f"{bad!r} is out of range")
-    return arr
+    """Redshifts of any size with a positive scale factor, z > −1."""
+    return as_redshifts(z, name, lo=-1.0, hi=math.inf, above=True)
 
 
 def _grouped(cosmo, z):

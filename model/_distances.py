@@ -40,15 +40,19 @@ QUANTITIES = {
 }
 
 
-def as_redshifts(z, name="z", lo=Z_MIN, hi=Z_MAX):
-    """Validate redshifts: a float array, finite, within [lo, hi], else ParameterError."""
+def as_redshifts(z, name="z", lo=Z_MIN, hi=Z_MAX, above=False):
+    """Validate redshifts: a float array, finite, lo ≤ z ≤ hi (lo < z with ``above``),
+    else ParameterError naming ``name`` and the accepted range."""
+    low = "<" if above else "≤"
+    expected = f"{lo:g} {low} z ≤ {hi:g}" if math.isfinite(hi) else f"z {'>' if above else '≥'} {lo:g}"
     try:
         arr = np.asarray(z, dtype=float)
     except (TypeError, ValueError):
-        raise ParameterError(name, z, f"numbers {lo:g} ≤ z ≤ {hi:g}", "not numbers") from None
-    if arr.size and not (np.all(np.isfinite(arr)) and arr.min() >= lo and arr.max() <= hi):
-        bad = arr[~(np.isfinite(arr) & (arr >= lo) & (arr <= hi))].ravel()[0]
-        raise ParameterError(name, float(bad), f"{lo:g} ≤ z ≤ {hi:g}", f"{bad!r} is out of range")
+        raise ParameterError(name, z, f"numbers {expected}", "not numbers") from None
+    ok = np.isfinite(arr) & ((arr > lo) if above else (arr >= lo)) & (arr <= hi)
+    if not ok.all():
+        bad = arr[~ok].ravel()[0]
+        raise ParameterError(name, float(bad), expected, f"{float(bad)!r} is out of range")
     return arr
 
 

@@ -5,7 +5,7 @@ import math
 import numpy as np
 from scipy import integrate, optimize
 
-from ._background import components
+from ._background import budget_total, components
 from ._constants import NEUTRINO_PER_PHOTON
 from ._distances import evaluate
 from ._future import future
@@ -16,9 +16,7 @@ __all__ = ["epochs", "scale_factor_history", "cosmic_time"]
 
 def _q_of_u(cosmo, u):
     c = components(cosmo, np.expm1(np.atleast_1d(u)))
-    e2 = (c["photons"] + c["neutrinos_massless"] + c["neutrinos_massive"] + c["baryons"]
-          + c["cold_dark_matter"] + c["dark_energy"] + c["curvature"])
-    return c["pressure_weight"] / (2.0 * e2)
+    return c["pressure_weight"] / (2.0 * budget_total(c))
 
 
 def _matter_minus_de(cosmo, u):

@@ -11,44 +11,18 @@ import numpy as np
 from scipy import integrate, optimize
 
 from ._background import hubble_squared_x
-from ._neutrinos import LOG_Y_MAX, fermi_dirac
 from ._tables import U_MIN, per_model, tables
 
 __all__ = ["future", "scalar_e2"]
 
 _A_FAR = 1.0e12
-_NORM = 120.0 / (7.0 * math.pi**4)
-_A1, _A3 = 1.5 * 1.2020569031595942854, 11.25 * 1.0369277551433699263
-
-
 def scalar_e2(cosmo):
-    """A fast pure-Python E²(a), for quadrature at scale factors a ≥ 1."""
-    d = cosmo._derived
-    orad, onu1, ocb, ok, ode = d["omega_r"], d["omega_nu1"], d["omega_cb"], cosmo.omega_k, \
-        cosmo.omega_de
-    w0, wa = cosmo.w0, cosmo.wa
-    y0s = [float(y) for y in d["y0"]]
-    big = math.exp(LOG_Y_MAX)
-    lam = wa == 0.0 and w0 == -1.0
+    """E²(a) of one scale factor, for Brent's method and QUADPACK (same physics as everywhere:
+    :func:`model._background.hubble_squared_x`)."""
 
     def e2(a):
-        inv = 1.0 / a
-        inv2 = inv * inv
-        val = orad * inv2 * inv2 + ocb * inv2 * inv + ok * inv2
-        for y0 in y0s:
-            y = y0 * a
-            if y > big:
-                f = _NORM * (_A1 * y + _A3 / y)
-            else:
-                f = float(fermi_dirac(np.array([y]))[0][0])
-            val += onu1 * inv2 * inv2 * f
-        if ode != 0.0:
-            if lam:
-                val += ode
-            else:
-                expo = -3.0 * (1.0 + w0 + wa) * math.log(a) - 3.0 * wa * (1.0 - a)
-                val += ode * math.exp(min(expo, 700.0))
-        return val
+        with np.errstate(all="ignore"):
+            return float(hubble_squared_x(cosmo, np.array([1.0 / a]))[0])
 
     return e2
 
@@ -62,7 +36,6 @@ class _Future:
         self.dtau_to_end = None  # cosmic time from today to the turnaround / rip
         self.deta_to_end = None  # conformal time from today to the turnaround, or to a = ∞
         e2 = scalar_e2(cosmo)
-        self._e2 = e2
         tab = tables(cosmo)
         a_edge = math.exp(-U_MIN)
         a = np.concatenate([np.exp(-tab.u[tab.u <= 0.0][::-1]),
@@ -109,9 +82,6 @@ class _Future:
                 self.dtau_to_end = dtau
         else:
             self.deta_to_end = math.inf
-
-    def e2(self, a):
-        return self._e2(a)
 
 
 _V_END = 50.0

@@ -4,7 +4,7 @@ import math
 
 import numpy as np
 
-from ._distances import Z_MAX, evaluate
+from ._distances import QUANTITIES, Z_MAX, evaluate
 from ._errors import ParameterError
 
 __all__ = ["redshift_at", "INVERTIBLE"]
@@ -19,8 +19,6 @@ INVERTIBLE = (
     "comoving_volume",
     "particle_horizon",
 )
-_UNITS = {"age": "Gyr", "lookback_time": "Gyr", "distance_modulus": "mag",
-          "comoving_volume": "Gpc³"}
 
 
 _MAX_STEPS = 60
@@ -105,7 +103,7 @@ def redshift_at(cosmo, quantity, values):
     rising = np.concatenate([[True], np.diff(g) > 0]) & good
     end = int(np.argmin(rising)) if not rising.all() else f.size
     g, z_nodes, f = g[:end], z_nodes[:end], f[:end]
-    unit = _UNITS.get(quantity, "Mpc")
+    unit = QUANTITIES[quantity][0]
     lo, hi = (f[0], f[-1]) if sign > 0 else (f[-1], f[0])
     flat = vals.ravel()
     target = sign * flat

@@ -24,7 +24,7 @@ import math
 
 import numpy as np
 from . import _hermite as hermite
-from ._background import check_big_bang, components_x
+from ._background import budget_total, check_big_bang, components_x, neutrino_terms
 
 __all__ = ["tables", "per_model", "STEP", "U_MIN", "U_MAX", "Tables"]
 
@@ -49,9 +49,7 @@ class Tables:
         all_u = np.concatenate([u, gl_u])
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             comp = components_x(cosmo, np.exp(all_u))
-            e2 = (comp["photons"] + comp["neutrinos_massless"] + comp["neutrinos_massive"]
-                  + comp["baryons"] + comp["cold_dark_matter"] + comp["dark_energy"]
-                  + comp["curvature"])
+            e2 = budget_total(comp)
             e = np.where(e2 > 0.0, np.sqrt(np.where(e2 > 0, e2, 1.0)), np.nan)
             inv_e = 1.0 / e
         check_big_bang(cosmo, all_u, e2)
@@ -76,7 +74,6 @@ class Tables:
         s_top = 1.0 + q_top
         e_top = e[n - 1]
         ex_top = ex[n - 1]
-        self.s_top = s_top
         age_tail = 1.0 / (s_top * e_top) if s_top > 1e-9 else math.inf
         eta_tail = ex_top / ((s_top - 1.0) * e_top) if s_top > 1.0 + 1e-9 else math.inf
         rs_tail = eta_tail * cs[n - 1]
@@ -110,21 +107,10 @@ class Tables:
         self.slopes = {"chi": d_chi[:n], "tau": d_tau[:n], "age": -d_tau[:n],
                        "eta": -d_chi[:n], "rs": -d_rs[:n]}
         if d["y0"].size:
-            from ._neutrinos import fermi_dirac
-
-            x = np.exp(u)
-            nu = np.zeros(n)
-            nu_p = np.zeros(n)
-            d_nu = np.zeros(n)
-            d_nu_p = np.zeros(n)
-            for y0 in d["y0"]:
-                f, g, dg = fermi_dirac(y0 / x)
-                nu += f
-                nu_p += 2.0 * f - g
-                d_nu -= g  # y ∝ e^{-u}
-                d_nu_p -= 2.0 * g - dg
-            self.values["nu"], self.slopes["nu"] = nu, d_nu
-            self.values["nu_p"], self.slopes["nu_p"] = nu_p, d_nu_p
+            f, f_p, g, dg = neutrino_terms(cosmo, np.exp(u))
+            # y ∝ e^{-u}: d/du = −d/d ln y
+            self.values["nu"], self.slopes["nu"] = f, -g
+            self.values["nu_p"], self.slopes["nu_p"] = f_p, -(2.0 * g - dg)
         self._coefficients = {}
 
     def coefficients(self, name):
