@@ -6,7 +6,6 @@ drawn and the model cards are filled, measured from the navigation request.
 """
 
 import os
-import socket
 import statistics
 import subprocess
 import sys
@@ -16,18 +15,14 @@ import urllib.parse
 import urllib.request
 from pathlib import Path
 
+from benchmarks._serving import free_port
+
 ROOT = Path(__file__).resolve().parent.parent
 TABS = ("budget", "distances", "time", "volume", "acoustic", "table")
 # Four invented candidates of a made-up survey team (the README's scenario).
 FOUR = [("m1.label", "Lantern baseline"), ("m2.label", "Candidate Ember"), ("m2.w0", "-0.88"),
         ("m2.wa", "-0.35"), ("m3.label", "Candidate Cinder"), ("m3.ok", "-0.015"),
         ("m4.label", "Candidate Ash"), ("m4.mnu", "0.15")]
-
-
-def _free_port():
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
 
 
 def _driver():
@@ -68,7 +63,7 @@ def _load_time(driver, url, timeout=30.0):
 
 
 def run():
-    port = _free_port()
+    port = free_port()
     env = {**os.environ, "FDESK_CACHE_DIR": tempfile.mkdtemp()}
     server = subprocess.Popen([sys.executable, "-m", "server", "--port", str(port)], cwd=ROOT,
                               env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
