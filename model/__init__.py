@@ -10,7 +10,7 @@ A pure numpy/scipy library, usable from a notebook::
 
 from ._acoustic import acoustic_scales, r_drag_fit, sound_horizon, z_drag_fit, z_star_fit
 from ._budget import COMPONENTS, densities, density_parameters, w_dark_energy, w_effective
-from ._distances import QUANTITIES, Z_MAX, Z_MIN, evaluate
+from ._distances import Z_MAX, Z_MIN, evaluate
 from ._epochs import cosmic_time, epochs, scale_factor_history
 from ._errors import ModelError, NoBigBangError, ParameterError
 from ._fit import (CONFIDENCE_LEVELS_2D, FIT_PARAMETERS, Chi2Map, DistanceBatch, FitError,
@@ -20,6 +20,7 @@ from ._likelihood import GoodnessOfFit, KindResiduals, Nuisances, compare_models
 from ._measurements import (MEASUREMENT_COLUMNS, MEASUREMENT_KINDS, MeasurementFormatError,
                             MeasurementLimits, MeasurementSet, parse_measurements,
                             read_measurements)
+from ._quantities import QUANTITIES, THEMES, Quantity
 from ._params import MAX_NEUTRINO_SPECIES, PARAMETERS, Cosmology, ParameterSpec
 
 __all__ = [
@@ -32,6 +33,8 @@ __all__ = [
     "NoBigBangError",
     "evaluate",
     "QUANTITIES",
+    "Quantity",
+    "THEMES",
     "Z_MIN",
     "Z_MAX",
     "density_parameters",
