@@ -166,8 +166,8 @@ def check(handle) -> int:
 
 def column_names(models: list[tuple[int, object]]) -> list[str]:
     """``m<slot>:<quantity>[<unit>]`` for every model and every `model.QUANTITIES` key."""
-    return [f"m{slot}:{key}[{unit or 'dimensionless'}]" for slot, _ in models
-            for key, (unit, _) in model.QUANTITIES.items()]
+    return [f"m{slot}:{key}[{q.unit or 'dimensionless'}]" for slot, _ in models
+            for key, q in model.QUANTITIES.items()]
 
 
 _CELL = 16  # sign, d, ".", 8 digits, "e", sign, 3 exponent digits: 9 significant digits

@@ -44,15 +44,6 @@ class Resolved:
         return codec.model_cache_key(self.state)
 
 
-def _build(kwargs: dict, label: str = "") -> model.Cosmology:
-    kwargs = dict(kwargs)
-    if "omega_de" in kwargs:
-        omega_de = kwargs.pop("omega_de")
-        kwargs.pop("omega_k", None)
-        return model.Cosmology.from_dark_energy(omega_de=omega_de, label=label, **kwargs)
-    return model.Cosmology(label=label, **kwargs)
-
-
 def resolve(state: codec.ModelState) -> Resolved:
     """Validate one slot with the model. A value the link could not read is its own problem and
     comes first; the model's `ParameterError` names its field, `NoBigBangError` the slot."""
@@ -93,7 +84,7 @@ def cosmology_for(key: str) -> model.Cosmology:
     Cosmology is frozen and building one (its tables) is the costly part of validating a card;
     every update validates every card, so the few in use are kept."""
     query = "&".join(f"m1.{pair}" for pair in key.split("&") if pair)
-    return _build(codec.decode(query or "m1.label=").models[0].physical())
+    return codec.decode(query or "m1.label=").models[0].to_cosmology()
 
 
 def round_significant(values, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:

@@ -1,4 +1,4 @@
-"""Parameter sets a model card can start from.
+"""Parameter sets a model card can start from (plain data; `server.state.apply_preset` applies one).
 
 Planck 2018 columns: Planck Collaboration 2020, "Planck 2018 results. VI. Cosmological
 parameters", A&A 641, A6, Table 2 (columns TT,TE,EE+lowE+lensing and +BAO). Their base model
@@ -12,11 +12,9 @@ Einstein–de Sitter (Ω_m = 1), empty (Ω_k = 1), de Sitter (Ω_Λ = 1), open m
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
-from server.codec import ModelState
-
-__all__ = ["Preset", "PRESETS", "apply_preset"]
+__all__ = ["Preset", "PRESETS"]
 
 
 @dataclass(frozen=True)
@@ -51,8 +49,3 @@ PRESETS = {p.key: p for p in (
     Preset("open", "Open, matter only (Ω_m = 0.3, Ω_k = 0.7)", _TEXT, _textbook(0.3, 0.7)),
 )}
 
-
-def apply_preset(state: ModelState, key: str) -> ModelState:
-    """`state` with every physical input replaced by the preset's; the label becomes its name."""
-    preset = PRESETS[key]
-    return replace(ModelState(slot=state.slot), label=preset.name, **preset.values)

@@ -38,7 +38,7 @@ def test_columns_equal_model_evaluate_and_other_lines_pass_through(client):
     for slot, cosmo in ((1, model.Cosmology(h0=70.0, omega_m=0.3153)),
                         (2, model.Cosmology(h0=67.36, omega_m=0.3153, w0=-0.9))):
         expected = model.evaluate(cosmo, z)
-        for key, (unit, _) in model.QUANTITIES.items():
+        for key, unit in ((k, q.unit) for k, q in model.QUANTITIES.items()):
             column = header.index(f"m{slot}:{key}[{unit or 'dimensionless'}]")
             got = np.array([float(row[column]) for row in data])
             np.testing.assert_allclose(got, expected[key], rtol=1e-8)  # 9 significant digits written
