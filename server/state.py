@@ -23,7 +23,7 @@ from dataclasses import dataclass, field, replace
 import model
 from server import fields
 from server.fields import MAX_LABEL_LENGTH, MAX_SLOTS, MODEL_KEYS, VIEW_KEY, Refusal
-from server.presets import PRESETS
+from server.presets import ALIASES, PRESETS, preset
 
 __all__ = [
     "Problem", "ModelState", "ViewState", "LinkState", "default_model", "demo_models",
@@ -145,13 +145,13 @@ def default_model(slot: int, **changes) -> ModelState:
 
 def apply_preset(state: ModelState, key: str) -> ModelState:
     """`state` with every physical input replaced by the preset's; the label becomes its name."""
-    preset = PRESETS[key]
-    return replace(ModelState(slot=state.slot), label=preset.name, **preset.values)
+    chosen = preset(key)
+    return replace(ModelState(slot=state.slot), label=chosen.name, **chosen.values)
 
 
 def demo_models() -> tuple[ModelState, ...]:
     """The models shown when a link names none: a made-up survey team's three candidates."""
-    base = PRESETS["planck18"].values
+    base = PRESETS["cmb2018-lens"].values
     return (
         default_model(1, label="Baseline (Planck 2018 lensing)", **base),
         default_model(2, label="Candidate T: thawing dark energy", **{**base, "w0": -0.85, "wa": -0.4}),
@@ -293,6 +293,8 @@ def apply_action(state: LinkState, action: str, slot: int | None = None, value=N
             return state
         models = [m for m in models if m.slot != slot]
     elif action == "preset":
+        if value not in PRESETS and value not in ALIASES:
+            return state  # not a parameter set (a stale or forged page): nothing changes
         models = [apply_preset(m, value) if m.slot == slot else m for m in models]
     return _settled(models, state.view)
 
