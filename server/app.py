@@ -11,6 +11,7 @@ from flask import Flask
 
 from server.cache import cache, code_fingerprint, guard_backend, writable_folder
 from server.config import ENV_PREFIX, default_config, normalise_prefix, redis_options
+from server.guards import install_guards
 from server.headers import SecurityHeaders, content_security_policy, security_headers
 from server.limits import install_limits
 from server.requestlog import RedactExceptions, RequestLog
@@ -78,6 +79,7 @@ def create_app(config: dict | None = None) -> dash.Dash:
     )
     app.layout = page(callbacks.page_options())
     callbacks.register(app)
+    install_guards(flask_app, app, prefix)
     install_response_cache(flask_app)
     csp = content_security_policy(app.csp_hashes(), flask_app.config["FRAME_ANCESTORS"])
     flask_app.wsgi_app = RequestLog(SecurityHeaders(flask_app.wsgi_app, security_headers(csp)))

@@ -54,11 +54,20 @@ def resolve(state: codec.ModelState) -> Resolved:
     try:
         cosmo = cosmology_for(codec.model_cache_key(state))  # the label is the state's, not needed here
     except model.ParameterError as err:
+        if err.field == "omega_k" and state.omega_de is not None:
+            # Ω_k was derived from the Ω_de the card gives: name the key that was sent
+            key = f"{prefix}.ode"
+            return Resolved(state, None, codec.Problem(key, (
+                f"{key}: Ω_de = {codec.format_number(state.omega_de)} makes the derived curvature "
+                f"Ω_k = 1 − Ω_m − Ω_de − Ω_r = {_value_text(err.value)}, outside {err.expected}; "
+                "choose Ω_de (or Ω_m) so that Ω_k stays in that range")))
         key = f"{prefix}.{_URL_KEY_OF.get(err.field, err.field)}"
         return Resolved(state, None, codec.Problem(key, f"{key}: {_value_text(err.value)} is not accepted; "
                                                         f"expected {err.expected}"))
     except model.NoBigBangError as err:
-        return Resolved(state, None, codec.Problem(prefix, f"{prefix}: no big bang: {err}"))
+        text = str(err)
+        return Resolved(state, None, codec.Problem(prefix, f"{prefix}: {text}" if text.startswith("no big bang")
+                                                   else f"{prefix}: no big bang: {text}"))
     except Exception as err:  # noqa: BLE001 - any other failure is this model's problem, not a 500
         return Resolved(state, None, codec.Problem(prefix, f"{prefix}: this model cannot be built ({err!r})"))
     return Resolved(state, cosmo, None)
