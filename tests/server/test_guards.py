@@ -130,3 +130,42 @@ def test_fuzzed_page_updates_never_give_a_server_error(client, body):
     assert r.status_code in (200, 204, 400), (r.status_code, json.dumps(body)[:300])
     if r.status_code == 400:
         assert r.get_json()["error"]["field"] == "body"
+
+
+# ----------------------------------------------------------------------------- headers
+
+
+def test_pure_model_answers_may_be_kept_briefly_and_revalidate_by_etag(client):
+    r = client.get("/api/v1/compare?m1.h0=70&z=1")
+    assert r.status_code == 200 and r.headers["Cache-Control"].startswith("public, max-age=")
+    again = client.get("/api/v1/compare?m1.h0=70&z=1", headers={"If-None-Match": r.headers["ETag"]})
+    assert again.status_code == 304 and again.get_data() == b""
+
+
+@pytest.mark.parametrize("method, path", [
+    ("get", "/api/v1/compare?m1.h0=70&data=" + "0" * 24), ("get", "/healthz"),
+    ("post", "/api/v1/data"), ("get", "/api/v1/compare?m1.om=9")])
+def test_answers_that_depend_on_data_or_state_are_not_stored(client, method, path):
+    assert getattr(client, method)(path).headers["Cache-Control"] == "no-store"
+
+
+def test_page_updates_are_not_stored(client):
+    assert post_update(client, panel_update()).headers["Cache-Control"] == "no-store"
+
+
+def test_the_prefix_redirect_is_a_path_not_an_absolute_http_address(app_factory):
+    client = app_factory(CACHE_TYPE="SimpleCache", URL_PREFIX="/cosmo/").server.test_client()
+    r = client.get("/cosmo", base_url="https://desk.example.org")
+    assert r.status_code in (301, 308) and r.headers["Location"] == "/cosmo/"
+
+
+def test_trusted_proxy_headers_are_believed_only_when_configured(app_factory):
+    from flask import request
+
+    seen = {}
+    for proxies in (0, 1):
+        flask_app = app_factory(CACHE_TYPE="SimpleCache", TRUSTED_PROXIES=proxies).server
+        flask_app.before_request(lambda p=proxies: seen.__setitem__(p, (request.scheme, request.remote_addr)))
+        flask_app.test_client().get("/healthz", headers={"X-Forwarded-Proto": "https",
+                                                         "X-Forwarded-For": "203.0.113.9"})
+    assert seen[0] == ("http", "127.0.0.1") and seen[1] == ("https", "203.0.113.9")
