@@ -146,7 +146,15 @@ def _upload_fields() -> tuple[bytes | None, bytes | None, str]:
                 "(curl -F measurements=@table.csv) or as the body itself with Content-Type: text/csv "
                 "(curl --data-binary @table.csv -H 'Content-Type: text/csv')"))
         return measurements, covariance, name
-    body = request.get_data(cache=False)
+    # Read one byte past what could be accepted: a chunked body (no Content-Length) that is too
+    # large is then refused as "more than" the limit, not reported at the size it was cut to.
+    limit = data_store.LIMITS.max_bytes + (data_store.LIMITS.max_covariance_bytes
+                                           if request.mimetype == "application/json" else 0)
+    body = request.stream.read(limit + 1)
+    if len(body) > limit:
+        field = "body" if request.mimetype == "application/json" else "measurements"
+        raise data_store.DataRejected(field, f"{field}: more than {limit} bytes were sent; the limit is "
+                                             f"{limit} bytes ({limit / 1048576:g} MiB)")
     if request.mimetype == "application/json":
         try:
             document = json.loads(body.decode("utf-8"))
