@@ -142,7 +142,7 @@ def install_guards(flask_app: Flask, dash_app, api_prefix: str) -> None:
                            type(err).__name__)
             return _refusal(400, "body", "body: this update could not be applied to the page's state; "
                                          "reload the page")
-        flask_app.logger.error("unexpected %s on %s", type(err).__name__, request.path)
+        flask_app.log_exception((type(err), err, err.__traceback__))  # redacted (server.requestlog)
         return _refusal(500, "", "the server failed on this request; the failure is logged without "
                                  "the request's values")
 

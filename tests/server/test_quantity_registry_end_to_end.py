@@ -49,5 +49,6 @@ def test_catalogue_columns_carry_the_new_quantity(probe, client):
     r = client.post("/api/v1/catalogue?" + QUERY, data="z\n0.5\n3\n", content_type="text/csv")
     assert r.status_code == 200
     rows = list(csv.reader(io.StringIO(r.get_data(as_text=True))))
+    assert rows[-1] == ["# complete: 2 rows"]
     column = rows[0].index("m1:probe_hubble_time[Gyr]")
-    np.testing.assert_allclose([float(row[column]) for row in rows[1:]], probe, rtol=1e-8)
+    np.testing.assert_allclose([float(row[column]) for row in rows[1:-1]], probe, rtol=1e-8)
