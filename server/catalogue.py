@@ -189,6 +189,9 @@ with np.errstate(over="ignore"):
     _SCALE = 10.0 ** np.arange(-_SCALE_ZERO, _SCALE_ZERO + 1, dtype=float)  # 10^k, looked up
 
 
+_SLICE = 16384  # numbers formatted at a time: every pass over them then stays in the CPU cache
+
+
 def _number_cells(values: np.ndarray) -> np.ndarray:
     """Fixed-width ASCII cells (uint8, shape ``values.shape + (16,)``) with 9 significant digits,
     padded with `_PAD` bytes that are removed before sending (``-1.23456789e+03``); NaN is an
@@ -196,6 +199,27 @@ def _number_cells(values: np.ndarray) -> np.ndarray:
     would cost ~0.25 µs each, 17 numbers a row and model."""
     v = np.asarray(values, dtype=float)
     flat = v.reshape(-1)
+    words = np.empty((flat.size, 4), dtype=np.uint32)
+    irregular = []
+    for start in range(0, flat.size, _SLICE):
+        part = flat[start:start + _SLICE]
+        bad = _words_of(part, words[start:start + _SLICE])
+        if bad.size:
+            irregular.append(bad + start)
+    out = words.view(np.uint8).reshape(v.shape + (_CELL,))
+    if irregular:
+        cells = out.reshape(-1, _CELL)
+        for k in np.concatenate(irregular):
+            cells[k] = _PAD  # NaN stays an empty cell
+            if not np.isnan(flat[k]):  # infinities and the tiniest numbers
+                text = ("%.9g" % flat[k]).encode("ascii")
+                cells[k, :len(text)] = np.frombuffer(text, dtype=np.uint8)
+    return out
+
+
+def _words_of(flat: np.ndarray, words: np.ndarray) -> np.ndarray:
+    """Fill `words` (n × 4 uint32) with the cells of `flat`; returns the indices of the values
+    this fast path does not write (NaN, infinities, |x| < 1e-290)."""
     a = np.abs(flat)
     regular = np.isfinite(flat) & ((a >= 1e-290) | (a == 0.0))
     a[~regular] = 0.0
@@ -212,34 +236,35 @@ def _number_cells(values: np.ndarray) -> np.ndarray:
     m = m.astype(np.uint32)  # nine digits fit below 2^32
     high = m // 1000
     lead = high // 10000
-    words = np.empty((flat.size, 4), dtype=np.uint32)
     words[:, 0] = _LEAD[lead + 100 * (np.signbit(flat) & (flat != 0.0))]
     words[:, 1] = _MIDDLE[high - lead * 10000]
     words[:, 2] = _TAIL[m - high * 1000]
     words[:, 3] = _EXPONENT[e + _SCALE_ZERO]
-    out = words.view(np.uint8).reshape(v.shape + (_CELL,))
-    irregular = np.flatnonzero(~regular)
-    if irregular.size:
-        cells = out.reshape(-1, _CELL)
-        cells[irregular] = _PAD  # NaN stays an empty cell
-        for k in irregular[~np.isnan(flat[irregular])]:  # infinities and the tiniest numbers
-            text = ("%.9g" % flat[k]).encode("ascii")
-            cells[k, :len(text)] = np.frombuffer(text, dtype=np.uint8)
-    return out
+    return np.flatnonzero(~regular)
+
+
+_ROW_SLICE = 2048  # rows assembled at a time (a few MB: the byte block stays in the CPU cache)
 
 
 def _format_rows(texts: list[bytes], columns: np.ndarray) -> bytes:
     """``text,cell,cell,...\n`` for every row: `texts` are the rows as read (bytes, without their
     line end), `columns` the numbers (rows × columns), 9 significant digits, NaN left empty."""
+    return b"".join(_format_slice(texts[i:i + _ROW_SLICE], columns[i:i + _ROW_SLICE])
+                    for i in range(0, len(texts), _ROW_SLICE))
+
+
+def _format_slice(texts: list[bytes], columns: np.ndarray) -> bytes:
     n = len(texts)
     if not n:
         return b""
     lengths = np.fromiter(map(len, texts), dtype=np.int64, count=n)
     widest = int(lengths.max())
     k = columns.shape[1]
-    block = np.full((n, widest + k * (_CELL + 1) + 1), _PAD, dtype=np.uint8)
+    block = np.empty((n, widest + k * (_CELL + 1) + 1), dtype=np.uint8)
     # the original text, left-aligned in its row
-    block[:, :widest][np.arange(widest) < lengths[:, None]] = np.frombuffer(b"".join(texts), dtype=np.uint8)
+    text_part = block[:, :widest]
+    text_part.fill(_PAD)
+    text_part[np.arange(widest) < lengths[:, None]] = np.frombuffer(b"".join(texts), dtype=np.uint8)
     cells = block[:, widest:widest + k * (_CELL + 1)].reshape(n, k, _CELL + 1)
     cells[:, :, 0] = ord(",")
     cells[:, :, 1:] = _number_cells(columns)
