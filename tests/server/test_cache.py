@@ -14,6 +14,7 @@ import numpy as np
 import pytest
 
 import model
+from benchmarks._serving import page_update_payload
 from layouts.figures import figure, uniform_step
 from server import cache as memo
 from server import compute
@@ -114,10 +115,16 @@ def test_two_code_fingerprints_on_one_cache_folder_never_share_an_entry(app_fact
     with old_again.server.app_context():
         assert add(2.0, 3.0) == 5.0 and memo.cache.get("plain-key") == "old value"  # same version: shared
     assert calls == [(2.0, 3.0), (2.0, 3.0)]
-    # the same through the whole app: answers, model results and panel responses
+    # the same through the whole app: answers and model results, and whole panel responses
     old.server.test_client().get(QUERY, buffered=True)
     assert new.server.test_client().get(QUERY).headers["X-Fdesk-Cache"] == "miss"
     assert old_again.server.test_client().get(QUERY).headers["X-Fdesk-Cache"] == "hit-shared"
+    client = old.server.test_client()
+    panel = page_update_payload(client.get("/_dash-dependencies").get_json(), "?m1.h0=71.25&tab=time")
+    client.post("/_dash-update-component", json=panel, buffered=True)
+    outcomes = [app.server.test_client().post("/_dash-update-component", json=panel).headers["X-Fdesk-Cache"]
+                for app in (new, old_again)]
+    assert outcomes == ["miss", "hit-shared"]
 
 
 def test_the_lru_is_bounded_by_count_or_size_and_by_age():
