@@ -3,9 +3,9 @@
 
 A "full update" here is what the server does when a link changes: decode it, compute (or fetch
 from the cache) every model, build all six panels and the card statuses, and serialise them with
-Plotly's JSON encoder as Dash does. Results reach the shared cache from a background writer
-after the response (server.cache); the benchmark waits for it between runs, untimed. Run with
-``python -m benchmarks server``.
+Plotly's JSON encoder as Dash does. Each update runs in a request, as in the app, where results
+reach the shared cache once the response has been sent (server.cache); the benchmark writes
+them between runs, untimed (`flush_writes`). Run with ``python -m benchmarks server``.
 """
 
 from __future__ import annotations
@@ -58,21 +58,24 @@ def open_panel_update(query: str) -> int:
 def run() -> None:
     with tempfile.TemporaryDirectory() as cache_dir:
         app = create_app({"CACHE_TYPE": "FileSystemCache", "CACHE_DIR": cache_dir})
-        with app.server.app_context():
+        with app.server.test_request_context():
             full_update(_four_model_query(0))  # warm imports and tables
             flush_writes()
-            settle_heap()  # as the server's entry points do once the app is built
-            cold, warm, one_panel = [], [], []
-            sizes = {}
-            for i in range(1, REPEATS + 1):
-                query = _four_model_query(i)
+        settle_heap()  # as the server's entry points do once the app is built
+        cold, warm, one_panel = [], [], []
+        sizes = {}
+        for i in range(1, REPEATS + 1):
+            query = _four_model_query(i)
+            with app.server.test_request_context():
                 t0 = time.perf_counter()
                 sizes = full_update(query)
                 cold.append(time.perf_counter() - t0)
-                flush_writes()  # the shared-cache writes run after the response; not timed
+                flush_writes()  # done once the response has been sent; not timed
+            with app.server.test_request_context():
                 t0 = time.perf_counter()
                 full_update(query)
                 warm.append(time.perf_counter() - t0)
+            with app.server.test_request_context():
                 t0 = time.perf_counter()
                 open_panel_update(query + f"&tab=distances&zmax={3 + i * 0.01:.2f}")
                 one_panel.append(time.perf_counter() - t0)

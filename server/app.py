@@ -3,15 +3,14 @@
 from __future__ import annotations
 
 import gc
-import logging
 from pathlib import Path
 
 import dash
 from flask import Flask
 from werkzeug.middleware.proxy_fix import ProxyFix
 
-from server.cache import cache, code_fingerprint, guard_backend, writable_folder
-from server.config import ENV_PREFIX, default_config, normalise_prefix, redis_options
+from server.cache import attach as attach_cache
+from server.config import ENV_PREFIX, default_config, normalise_prefix
 from server.guards import install_guards
 from server.headers import SecurityHeaders, content_security_policy, install_cache_headers, security_headers
 from server.limits import install_limits
@@ -21,26 +20,6 @@ from server.responses import install_response_cache
 __all__ = ["create_app", "settle_heap"]
 
 ASSETS = Path(__file__).resolve().parent.parent / "layouts" / "assets"
-_FILE_CACHES = ("FileSystemCache", "flask_caching.backends.FileSystemCache",
-                "flask_caching.backends.filesystemcache.FileSystemCache")
-_REDIS_CACHES = ("RedisCache", "flask_caching.backends.RedisCache",
-                 "flask_caching.backends.rediscache.RedisCache")
-
-logger = logging.getLogger(__name__)
-
-
-def _choose_cache(config) -> None:
-    """A FileSystemCache folder that cannot be written means an in-process cache (one warning);
-    a RedisCache without client options gets short timeouts."""
-    if config["CACHE_TYPE"] in _FILE_CACHES:
-        reason = writable_folder(config["CACHE_DIR"])
-        if reason is not None:
-            logger.warning("cache folder is not writable (%s); using an in-process cache instead. "
-                           "Set FDESK_CACHE_DIR to a writable folder to share results between workers",
-                           reason)
-            config["CACHE_TYPE"] = "SimpleCache"
-    elif config["CACHE_TYPE"] in _REDIS_CACHES and not config.get("CACHE_OPTIONS"):
-        config["CACHE_OPTIONS"] = redis_options()
 
 
 def create_app(config: dict | None = None) -> dash.Dash:
@@ -57,10 +36,7 @@ def create_app(config: dict | None = None) -> dash.Dash:
     flask_app.config.update(config or {})
     prefix = normalise_prefix(flask_app.config["URL_PREFIX"])
     flask_app.config["URL_PREFIX"] = prefix
-    flask_app.config.setdefault("CACHE_KEY_PREFIX", f"fdesk-{code_fingerprint()}-")
-    _choose_cache(flask_app.config)
-    cache.init_app(flask_app)
-    guard_backend(flask_app)
+    attach_cache(flask_app)
     if not any(isinstance(f, RedactExceptions) for f in flask_app.logger.filters):
         flask_app.logger.addFilter(RedactExceptions())  # the logger is shared by name: add it once
 

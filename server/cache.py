@@ -1,11 +1,19 @@
-"""The one cache extension, created without an app and attached in `create_app`, and the
-memoizer the computations use on top of it.
+"""The cache's two layers, and the memoizer the computations use on them.
 
-`memoized` keeps flask-caching's shared cache (files, Redis) as the store that workers share,
-and puts a small in-process LRU in front of it: a cached page update then reads each model's
-results from memory instead of unpickling a file per lookup. `fetch_many` gets every model's
-result for one update with a single `get_many`. Keys are the function's qualified name and the
-repr of its (canonical, hashable) arguments, under the app's `CACHE_KEY_PREFIX`.
+1. In process: `LRU`, the one store of its kind in server/ (bounded by entry count or by size,
+   optional time to live). Each app keeps the fronts of `memoized` functions in it; the
+   response store (`server.responses`), the parsed data sets (`server.data_store`) and the
+   built cosmologies (`in_process`) are LRUs too.
+2. Shared: flask-caching's backend (files for the workers of one host, Redis for many hosts),
+   the `cache` extension, attached by `attach`. What a request computes is written there after
+   its response has been sent (Flask's `call_on_close`), outside a request at once; nothing
+   writes in the background.
+
+`memoized` reads the front first, then the shared backend, then computes; `fetch_many` gets
+every model's result for one update with a single `get_many`. Keys are the function's
+qualified name and the repr of its (canonical, hashable) arguments, under the app's
+``CACHE_KEY_PREFIX``, which carries `code_fingerprint` so an upgrade never serves results of
+older code (`PrefixedFileSystemCache` makes the file backend honour that prefix too).
 
 `GuardedBackend` wraps the shared backend so that a Redis server that is down (at start or
 mid-run) or a cache folder that cannot be written never fails a request: the results then go to
@@ -24,78 +32,137 @@ import functools
 import hashlib
 import logging
 import os
-import queue
 import tempfile
 import threading
 import time
-import weakref
 from pathlib import Path
-from typing import Any, Callable, Iterable
+from typing import Any, Callable, Hashable, Iterable
 
 import numpy as np
-from flask import has_request_context, request
+from flask import current_app, has_request_context, request
 from flask_caching import Cache
 from flask_caching.backends import SimpleCache
+from flask_caching.backends.filesystemcache import FileSystemCache
 
-__all__ = ["cache", "code_fingerprint", "memoized", "fetch_many", "flush_writes", "FRONT_ENTRIES",
-           "GuardedBackend", "guard_backend", "writable_folder", "request_cache_status", "BudgetExceeded",
-           "Uncacheable"]
+from server.config import redis_options
+
+__all__ = ["cache", "attach", "code_fingerprint", "LRU", "in_process", "memoized", "fetch_many", "store_shared",
+           "flush_writes", "FRONT_ENTRIES", "GuardedBackend", "PrefixedFileSystemCache", "guard_backend",
+           "writable_folder", "request_cache_status", "BudgetExceeded", "Uncacheable"]
 
 logger = logging.getLogger(__name__)
 
 cache = Cache()
 
-FRONT_ENTRIES = 96  # results kept per process and backend: a model's curves are ~0.3 MB with their
+FRONT_ENTRIES = 96  # results kept per process and app: a model's curves are ~0.3 MB with their
 # encodings, so at most ~30 MB a worker (a judgement call, no source)
 _MISSING = object()
-# one front LRU per backend object, so a fresh app (as in each test) starts empty
-_fronts: "weakref.WeakKeyDictionary[Any, dict[int, collections.OrderedDict]]" = weakref.WeakKeyDictionary()
-_lock = threading.Lock()
+_FRONTS = "fdesk_memo_fronts"  # app.extensions key: {front size: LRU}
+_SOURCES = ("model", "server", "layouts")  # everything that shapes a cached result or answer
+_fingerprint: list[str] = []  # computed once per process
 
 
 def code_fingerprint() -> str:
-    """Short hash of the model and computation source (the modules whose functions are
-    memoized, and what they read), so cached results from older code are never served after an
-    upgrade (it becomes part of the cache key prefix)."""
-    root = Path(__file__).resolve().parent.parent
-    digest = hashlib.sha256()
-    for folder in ("model", "server"):
-        for path in sorted((root / folder).glob("*.py")):
-            if folder == "server" and path.name not in ("compute.py", "codec.py", "cache.py", "api.py"):
-                continue
-            digest.update(path.name.encode())
-            digest.update(path.read_bytes())
-    return digest.hexdigest()[:12]
+    """Short hash of the source of every package whose code shapes a cached value (the model,
+    the server, the layouts), so results and answers cached by older code are never served
+    after an upgrade: the shared cache's key prefix and the response store's keys carry it."""
+    if not _fingerprint:
+        root = Path(__file__).resolve().parent.parent
+        digest = hashlib.sha256()
+        for folder in _SOURCES:
+            for path in sorted((root / folder).rglob("*.py")):
+                digest.update(path.relative_to(root).as_posix().encode())
+                digest.update(path.read_bytes())
+        _fingerprint.append(digest.hexdigest()[:12])
+    return _fingerprint[0]
 
 
-def _front(entries: int = FRONT_ENTRIES) -> collections.OrderedDict:
-    """The front LRU of this backend for memoized functions bounded to `entries` results (the
-    large model results share one; small whole answers keep more in their own)."""
-    backend = cache.cache
-    with _lock:
-        fronts = _fronts.get(backend)
-        if fronts is None:
-            fronts = _fronts[backend] = {}
-        front = fronts.get(entries)
-        if front is None:
-            front = fronts[entries] = collections.OrderedDict()
-        return front
+class LRU:
+    """A thread-safe in-process store, least recently used out first.
+
+    Bounded to `limit` entries, or to `limit` units of `sizeof(value)` (bytes, say); a value
+    larger than `largest` units is not kept. With `ttl`, an entry older than `ttl` seconds is
+    gone."""
+
+    def __init__(self, limit: int, *, sizeof: Callable[[Any], int] | None = None, ttl: float | None = None,
+                 largest: int | None = None):
+        self.limit, self.sizeof, self.ttl = limit, sizeof, ttl
+        self.largest = limit if largest is None else largest
+        self.size = 0  # entries, or units of sizeof
+        self._items: "collections.OrderedDict[Hashable, tuple[Any, int, float]]" = collections.OrderedDict()
+        self._lock = threading.Lock()
+
+    def __len__(self) -> int:
+        return len(self._items)
+
+    def get(self, key: Hashable, default: Any = None) -> Any:
+        with self._lock:
+            item = self._items.get(key)
+            if item is None:
+                return default
+            if self.ttl is not None and time.monotonic() - item[2] > self.ttl:
+                self._drop(key)
+                return default
+            self._items.move_to_end(key)
+            return item[0]
+
+    def put(self, key: Hashable, value: Any) -> bool:
+        """Keep `value` under `key`; False when it is larger than `largest` (not kept)."""
+        size = 1 if self.sizeof is None else self.sizeof(value)
+        if size > self.largest:
+            return False
+        born = time.monotonic() if self.ttl is not None else 0.0
+        with self._lock:
+            if key in self._items:
+                self._drop(key)
+            self._items[key] = (value, size, born)
+            self.size += size
+            while self.size > self.limit:
+                self._drop(next(iter(self._items)))
+        return True
+
+    def pop(self, key: Hashable) -> None:
+        with self._lock:
+            if key in self._items:
+                self._drop(key)
+
+    def clear(self) -> None:
+        with self._lock:
+            self._items.clear()
+            self.size = 0
+
+    def _drop(self, key: Hashable) -> None:
+        self.size -= self._items.pop(key)[1]
 
 
-def _remember(front: collections.OrderedDict, key: str, value, entries: int = FRONT_ENTRIES) -> None:
-    with _lock:
-        front[key] = value
-        front.move_to_end(key)
-        while len(front) > entries:
-            front.popitem(last=False)
+def in_process(entries: int) -> Callable:
+    """Memoize a function of hashable positional arguments in an `LRU` of `entries` results in
+    this process only, uncounted (for what cannot or need not be shared, such as a built
+    Cosmology). An exception is passed on and not kept. ``fn.cache_clear()`` empties it."""
+    def decorate(fn: Callable) -> Callable:
+        store = LRU(entries)
+
+        @functools.wraps(fn)
+        def wrapper(*args):
+            value = store.get(args, _MISSING)
+            if value is _MISSING:
+                value = fn(*args)
+                store.put(args, value)
+            return value
+
+        wrapper.cache_clear = store.clear
+        return wrapper
+    return decorate
 
 
-def _recall(front: collections.OrderedDict, key: str):
-    with _lock:
-        value = front.get(key, _MISSING)
-        if value is not _MISSING:
-            front.move_to_end(key)
-        return value
+def _front(entries: int = FRONT_ENTRIES) -> LRU:
+    """This app's front LRU for memoized functions bounded to `entries` results (the large
+    model results share one; small whole answers keep more in their own)."""
+    fronts = current_app.extensions[_FRONTS]
+    front = fronts.get(entries)
+    if front is None:
+        front = fronts.setdefault(entries, LRU(entries))
+    return front
 
 
 def _freeze(value):
@@ -194,12 +261,14 @@ def fetch_many(memo: Callable, calls: Iterable[tuple], return_exceptions: bool =
     entries = getattr(memo, "front_entries", FRONT_ENTRIES)
     shared = getattr(memo, "shared", True)
     front = _front(entries)
-    results = [_recall(front, k) for k in keys]
+    results = [front.get(k, _MISSING) for k in keys]
     missing = [i for i, r in enumerate(results) if r is _MISSING]
     _count("local", len(calls) - len(missing))
-    if missing:
-        stored = cache.get_many(*[keys[i] for i in missing]) if shared else [None] * len(missing)
-        fresh = {}
+    if not missing:
+        return results
+    stored = cache.get_many(*[keys[i] for i in missing]) if shared else [None] * len(missing)
+    fresh = {}
+    try:
         for i, box in zip(missing, stored):
             if isinstance(box, tuple) and len(box) == 1:
                 results[i] = _freeze(box[0])
@@ -223,93 +292,50 @@ def fetch_many(memo: Callable, calls: Iterable[tuple], return_exceptions: bool =
                     if worked and _looked_up() == before:  # it computed by itself; a composite's
                         _count("computed", 1)              # own look-ups tell how it went
                 fresh[keys[i]] = (results[i],)
-            _remember(front, keys[i], results[i], entries)
+            front.put(keys[i], results[i])
+    finally:  # what was computed before a refusal (the budget, say) stays cached
         if fresh and shared:
-            _write_behind(cache.cache, fresh)
+            store_shared(fresh)
     return results
 
 
-# Writing to the shared cache (a pickled file and a count file per entry for FileSystemCache)
-# costs more than serving the page from memory, so one thread per process does it after the
-# response: the front LRU already holds the results, and the other workers see them moments
-# later. A full queue drops the write (the entry is then simply computed again elsewhere).
-_queue: "queue.Queue[tuple[Any, dict]]" = queue.Queue(maxsize=256)
-_writer: dict = {"pid": None, "thread": None}
+_PENDING = "fdesk.cache.pending"  # request environ key: [(mapping, timeout)] for the shared cache
 
 
-def _store(backend, mapping: dict) -> None:
-    try:
-        backend.set_many(mapping)
-    except BaseException:  # noqa: BLE001 - a failed write only costs a recomputation
-        logger.warning("could not store %d results in the shared cache", len(mapping), exc_info=True)
+def store_shared(mapping: dict, timeout: int | None = None) -> None:
+    """Put `mapping` in the shared backend (with its own time to live in seconds, or the
+    backend's default): during a request once its response has been sent (the hook `attach`
+    installs, or `flush_writes`), so writing the files or the Redis round trip never delays
+    an answer; outside a request at once. A failed write only costs a recomputation."""
+    if has_request_context():
+        request.environ.setdefault(_PENDING, []).append((mapping, timeout))
+    else:
+        _write(cache.cache, [(mapping, timeout)])
 
 
-def _write_loop() -> None:
-    while True:
-        backend, mapping = _queue.get()
+def _write(backend, pending: list[tuple[dict, int | None]]) -> None:
+    by_timeout: dict[int | None, dict] = {}  # one round trip per time to live
+    for mapping, timeout in pending:
+        by_timeout.setdefault(timeout, {}).update(mapping)
+    for timeout, mapping in by_timeout.items():
         try:
-            _store(backend, mapping)
-        finally:
-            _queue.task_done()
+            backend.set_many(mapping, timeout=timeout)
+        except Exception:  # noqa: BLE001 - the guarded backend has its own fallback; this is the last net
+            logger.warning("could not store %d results in the shared cache", len(mapping), exc_info=True)
 
 
-def _ensure_writer() -> None:
-    with _lock:
-        thread = _writer["thread"]
-        if _writer["pid"] != os.getpid() or thread is None or not thread.is_alive():
-            # first write in this process, after a fork, or the thread could not start or died
-            _writer["pid"] = os.getpid()
-            thread = threading.Thread(target=_write_loop, name="fdesk-cache-writer", daemon=True)
-            _writer["thread"] = thread
-            thread.start()
+def _write_pending(environ: dict, backend) -> None:
+    pending = environ.pop(_PENDING, None)
+    if pending:
+        _write(backend, pending)
 
 
-def _write_behind(backend, mapping: dict) -> None:
-    try:
-        _ensure_writer()
-    except RuntimeError:  # no thread to be had: write now instead
-        _store(backend, mapping)
-        return
-    try:
-        _queue.put_nowait((backend, mapping))
-    except queue.Full:
-        logger.warning("shared-cache write queue full; %d results kept in this process only", len(mapping))
-
-
-def store_behind(key: str, value: Any, timeout: int | None = None) -> None:
-    """Put one value in the shared cache after the response (by the writer thread)."""
-    backend = cache.cache
-
-    class _WithTimeout:  # set_many with this entry's own time to live
-        def set_many(self, mapping):
-            return backend.set_many(mapping, timeout=timeout)
-
-    _write_behind(_WithTimeout(), {key: value})
-
-
-def flush_writes(timeout: float = 60.0) -> None:
-    """Wait until every queued shared-cache write is done (tests, benchmarks, shutdown).
-
-    Never waits for ever: if the writer thread is gone, the calling thread drains the queue
-    itself, and after ``timeout`` seconds it gives up with a warning.
-    """
-    deadline = time.monotonic() + timeout
-    while _queue.unfinished_tasks:
-        thread = _writer["thread"]
-        if thread is None or not thread.is_alive() or _writer["pid"] != os.getpid():
-            try:
-                backend, mapping = _queue.get_nowait()
-            except queue.Empty:
-                return
-            try:
-                _store(backend, mapping)
-            finally:
-                _queue.task_done()
-            continue
-        if time.monotonic() > deadline:
-            logger.warning("shared-cache writes still pending after %.0f s", timeout)
-            return
-        time.sleep(0.005)
+def flush_writes() -> None:
+    """Write what this request has left for the shared cache now, not once its response has
+    been sent (benchmarks that time a request's work without a response); outside a request
+    there is nothing left: writes there are immediate."""
+    if has_request_context():
+        _write_pending(request.environ, cache.cache)
 
 
 # ----------------------------------------------------------------------------- a guarded backend
@@ -429,3 +455,62 @@ def guard_backend(flask_app) -> GuardedBackend:
                              reads_prove_recovery=kind != "FileSystemCache")
     flask_app.extensions["cache"][cache] = guarded
     return guarded
+
+
+class PrefixedFileSystemCache(FileSystemCache):
+    """flask-caching's FileSystemCache with ``CACHE_KEY_PREFIX`` in every entry's file name.
+
+    flask-caching's own factory for it drops the prefix (Redis and the in-process caches keep
+    it), so without this two versions on one folder would read each other's entries. The
+    folder's entry count (for ``CACHE_THRESHOLD``) stays one file that every version shares."""
+
+    def __init__(self, *args, key_prefix: str = "", **kwargs):
+        super().__init__(*args, **kwargs)
+        self.key_prefix = key_prefix
+
+    @classmethod
+    def factory(cls, app, config, args, kwargs):
+        kwargs["key_prefix"] = config["CACHE_KEY_PREFIX"]
+        return super().factory(app, config, args, kwargs)
+
+    def _get_filename(self, key) -> str:
+        if isinstance(key, str) and key != self._fs_count_file:
+            key = self.key_prefix + key
+        return super()._get_filename(key)
+
+
+_FILE_CACHES = ("FileSystemCache", "flask_caching.backends.FileSystemCache",
+                "flask_caching.backends.filesystemcache.FileSystemCache")
+_REDIS_CACHES = ("RedisCache", "flask_caching.backends.RedisCache",
+                 "flask_caching.backends.rediscache.RedisCache")
+
+
+def attach(flask_app) -> None:
+    """Attach both layers to a configured Flask app: the key prefix (with `code_fingerprint`,
+    unless ``CACHE_KEY_PREFIX`` is set), the shared backend behind its guard (a FileSystemCache
+    folder that cannot be written means an in-process cache, with one warning; a RedisCache
+    without client options gets short timeouts), this app's memo fronts, and the hook that
+    writes a request's results to the shared cache once its response has been sent."""
+    config = flask_app.config
+    config.setdefault("CACHE_KEY_PREFIX", f"fdesk-{code_fingerprint()}-")
+    backend = {}
+    if config["CACHE_TYPE"] in _FILE_CACHES:
+        reason = writable_folder(config["CACHE_DIR"])
+        if reason is None:
+            backend["CACHE_TYPE"] = f"{__name__}.{PrefixedFileSystemCache.__name__}"
+        else:
+            logger.warning("cache folder is not writable (%s); using an in-process cache instead. "
+                           "Set FDESK_CACHE_DIR to a writable folder to share results between workers",
+                           reason)
+            config["CACHE_TYPE"] = "SimpleCache"
+    elif config["CACHE_TYPE"] in _REDIS_CACHES and not config.get("CACHE_OPTIONS"):
+        config["CACHE_OPTIONS"] = redis_options()
+    cache.init_app(flask_app, backend)  # config["CACHE_TYPE"] stays what was asked for
+    guard_backend(flask_app)
+    flask_app.extensions[_FRONTS] = {}
+
+    @flask_app.after_request
+    def _write_once_sent(response):
+        # read at close time: after_request hooks that run after this one may still add writes
+        response.call_on_close(functools.partial(_write_pending, request.environ, cache.cache))
+        return response

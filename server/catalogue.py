@@ -12,6 +12,7 @@ from __future__ import annotations
 import csv
 import io
 import math
+import time
 from typing import IO, Iterator
 
 import numpy as np
@@ -280,10 +281,12 @@ def _format_block(columns: list[np.ndarray]) -> list[str]:
     return [row[1:] for row in text.decode("ascii").split("\n")[:-1]]
 
 
-def stream(handle, models: list[tuple[int, model.Cosmology]]) -> Iterator[bytes]:
+def stream(handle, models: list[tuple[int, model.Cosmology]], deadline: float = math.inf) -> Iterator[bytes]:
     """Second pass: the file with the columns added (chunks of UTF-8 bytes). Call `check` first.
     Each chunk costs one `model.evaluate` per model; the last line says how many rows were
-    written (``# complete: N rows``), so a copy cut short on the way is plain to see."""
+    written (``# complete: N rows``), so a copy cut short on the way is plain to see. Past the
+    monotonic `deadline` the stream stops before its next chunk with a last line
+    ``# incomplete: ...`` saying so."""
     start, z_index, width = _header(handle)
     for number, text in _lines(handle):
         if number == start:
@@ -293,6 +296,10 @@ def stream(handle, models: list[tuple[int, model.Cosmology]]) -> Iterator[bytes]
     keys = list(model.QUANTITIES)
     written = 0
     for lines, z in _rows(handle, start, z_index, width):
+        if time.monotonic() > deadline:
+            yield (f"# incomplete: stopped after {written} rows, at the time this server gives one "
+                   "catalogue; send a smaller file, or fewer models\n").encode("ascii")
+            return
         content = ~np.isnan(z)
         texts = [text.encode("utf-8") for _, text in lines]
         if not content.any():
@@ -340,7 +347,7 @@ def handle():
     JSON: 400 naming the link key or the file's line and column, 413 above the size limit."""
     import urllib.parse
 
-    from flask import Response, jsonify, request, stream_with_context
+    from flask import Response, current_app, jsonify, request, stream_with_context
 
     from server import compute
 
@@ -371,6 +378,8 @@ def handle():
     for r in chosen:
         if r.problem is not None:
             return refuse(r.problem.key, r.problem.message)
+    budget = float(current_app.config["CATALOGUE_BUDGET_SECONDS"])
+    deadline = time.monotonic() + budget
     handle_ = _spooled(request.files["redshifts"].stream if "redshifts" in request.files else request.stream)
     if handle_ is None:
         return refuse("redshifts", f"redshifts: the file is larger than the limit of {MAX_BYTES} bytes", 413)
@@ -380,10 +389,14 @@ def handle():
         handle_.close()
         return refuse("redshifts", str(err), line=err.line, column=err.column)
     models = [(r.state.slot, compute.cosmology_for(r.key)) for r in chosen]
+    if time.monotonic() > deadline:
+        handle_.close()
+        return refuse("redshifts", f"redshifts: checking the file took longer than the {budget:g} s this "
+                                   "server gives one catalogue; send a smaller file", 422)
 
     def answer():
         try:
-            yield from stream(handle_, models)
+            yield from stream(handle_, models, deadline)
         finally:
             handle_.close()
     return Response(stream_with_context(answer()), mimetype="text/csv",

@@ -15,7 +15,7 @@ import numpy as np
 
 import model
 from server import codec
-from server.cache import memoized
+from server.cache import in_process, memoized
 
 __all__ = [
     "GRID_POINTS", "LINEAR_GRID_ZMAX", "SIGNIFICANT_DIGITS", "A_MIN", "A_MAX", "Resolved", "resolve", "resolve_all",
@@ -86,7 +86,7 @@ def resolve_all(state: codec.LinkState) -> list[Resolved]:
     return [resolve(m) for m in state.models]
 
 
-@functools.lru_cache(maxsize=64)
+@in_process(64)
 def cosmology_for(key: str) -> model.Cosmology:
     """The Cosmology for a canonical model key (`codec.model_cache_key`), without a label.
 

@@ -33,6 +33,9 @@ def default_config() -> dict:
         # the sites allowed to frame the page (a CSP frame-ancestors value).
         "CACHE_RETRY_SECONDS": 5.0,
         "REQUEST_BUDGET_SECONDS": 5.0,
+        # a catalogue streams for longer: a million rows for four models take a few seconds
+        "CATALOGUE_BUDGET_SECONDS": 60.0,
+        "TRUSTED_PROXIES": 0,  # reverse proxies whose X-Forwarded-* headers are believed
         "MAX_CONTENT_LENGTH": 8 * 1024 * 1024,  # above the data upload's own 5 MiB limit
         "FRAME_ANCESTORS": "'self'",
     }

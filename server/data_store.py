@@ -22,9 +22,7 @@ Errors, drawn as a tree::
 
 from __future__ import annotations
 
-import collections
 import hashlib
-import threading
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -32,7 +30,7 @@ from flask import current_app
 
 import model
 from server import codec
-from server.cache import cache
+from server.cache import LRU, cache
 
 __all__ = ["DataError", "DataNotFound", "DataRejected", "StoredData", "store", "load", "content_hash",
            "demo_bytes", "DEMO_PATH", "DEFAULT_TIMEOUT", "MAX_COVARIANCE_BYTES", "LIMITS"]
@@ -113,16 +111,7 @@ def _parse(measurements: bytes, covariance: bytes | None) -> model.MeasurementSe
 
 
 # Parsed sets by hash, in this process: a page update scores several models against one set.
-_parsed: "collections.OrderedDict[str, StoredData]" = collections.OrderedDict()
-_lock = threading.Lock()
-
-
-def _remember(entry: StoredData) -> None:
-    with _lock:
-        _parsed[entry.hash] = entry
-        _parsed.move_to_end(entry.hash)
-        while len(_parsed) > _PARSED_ENTRIES:
-            _parsed.popitem(last=False)
+_parsed = LRU(_PARSED_ENTRIES)
 
 
 def _timeout() -> int:
@@ -150,7 +139,7 @@ def store(measurements, covariance=None, name: str = "") -> StoredData:
         raise DataError("data", "data: the measurement set could not be stored (the cache refused it); "
                                 "try again, or ask the server's keeper to check the cache")
     entry = StoredData(digest, parsed, name)
-    _remember(entry)
+    _parsed.put(digest, entry)
     return entry
 
 
@@ -160,13 +149,11 @@ def load(digest: str) -> StoredData:
     if not isinstance(digest, str) or codec.decode(f"data={digest}").view.data != digest:
         raise DataError("data", f"data: {digest!r} is not a stored-data reference; expected "
                                 f"{codec.DATA_HASH_LENGTH} lowercase hexadecimal digits")
-    with _lock:
-        hit = _parsed.get(digest)
+    hit = _parsed.get(digest)
     stored = cache.get(_KEY_PREFIX + digest)
     if not isinstance(stored, dict):
         # the shared store is the truth: a set that expired there is gone for every worker
-        with _lock:
-            _parsed.pop(digest, None)
+        _parsed.pop(digest)
         raise DataNotFound("data", f"data: the measurement set {digest} is no longer stored (stored sets "
                                    f"expire after {_timeout() // 86400} days, or it was never uploaded to "
                                    "this server); upload the file again to get a working link")
@@ -174,7 +161,7 @@ def load(digest: str) -> StoredData:
         return hit
     entry = StoredData(digest, _parse(stored["measurements"], stored.get("covariance")),
                        stored.get("name", ""))
-    _remember(entry)
+    _parsed.put(digest, entry)
     return entry
 
 

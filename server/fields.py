@@ -66,7 +66,7 @@ R_D_CHOICES = ("model", "free")
 FIT_KEYS = {"h0": "h0", "om": "omega_m", "ok": "omega_k", "w0": "w0", "wa": "wa", "rd": "r_d",
             "off": "offset"}
 
-_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
+_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)  # no other scripts' digits
 
 
 class Refusal(str):

@@ -10,25 +10,21 @@ link on the same worker) is answered with the same bytes instead.
 Entries live at most `TTL_SECONDS` in a worker (so a stored data set that expires is noticed
 soon) and the whole store is bounded in bytes (`MAX_BYTES`, least recently used first out). A
 worker that has not seen a body yet looks in the shared cache (where every worker also leaves
-its answers, after the response, with the same time to live), so the workers and hosts of one
-instance answer a link once between them. Bodies of other callbacks (data upload, fits,
+its answers once the response has been sent, with the same time to live), so the workers and
+hosts of one instance answer a link once between them. Bodies of other callbacks (data upload, fits,
 downloads) are never answered from here.
 """
 
 from __future__ import annotations
 
-import collections
 import hashlib
-import threading
-import time
-from pathlib import Path
 
 from flask import Flask, Response, g, request
 
 from server import cache as memo
-from server.cache import CACHE_COUNTS
+from server.cache import CACHE_COUNTS, LRU
 
-__all__ = ["install_response_cache", "ResponseStore", "PANEL_OUTPUT", "TTL_SECONDS", "MAX_BYTES"]
+__all__ = ["install_response_cache", "response_store", "PANEL_OUTPUT", "TTL_SECONDS", "MAX_BYTES"]
 
 PANEL_OUTPUT = b'"..fd-panel.children'  # start of that callback's multi-output spec
 TTL_SECONDS = 600.0
@@ -36,57 +32,10 @@ MAX_BYTES = 64 * 1024 * 1024
 _MAX_BODY = 256 * 1024  # larger bodies are not the panel callback's
 
 
-
-def _page_code_fingerprint() -> str:
-    """Hash of everything that shapes a panel (server/ and layouts/ sources): the shared-cache
-    key carries it, so another version's answers are never served after an upgrade."""
-    root = Path(__file__).resolve().parent.parent
-    digest = hashlib.sha256()
-    for folder in ("server", "layouts"):
-        for path in sorted((root / folder).glob("*.py")):
-            digest.update(path.name.encode())
-            digest.update(path.read_bytes())
-    return digest.hexdigest()[:12]
-
-
-_SHARED_PREFIX = f"panel-response-{_page_code_fingerprint()}:"
-
-
-class ResponseStore:
-    """A byte-bounded LRU of response bodies with a time to live."""
-
-    def __init__(self, max_bytes: int = MAX_BYTES, ttl: float = TTL_SECONDS):
-        self.max_bytes, self.ttl = max_bytes, ttl
-        self._items: "collections.OrderedDict[str, tuple[float, bytes]]" = collections.OrderedDict()
-        self._bytes = 0
-        self._lock = threading.Lock()
-
-    def get(self, key: str) -> bytes | None:
-        with self._lock:
-            found = self._items.get(key)
-            if found is None:
-                return None
-            born, body = found
-            if time.monotonic() - born > self.ttl:
-                self._drop(key)
-                return None
-            self._items.move_to_end(key)
-            return body
-
-    def put(self, key: str, body: bytes) -> None:
-        if len(body) > self.max_bytes // 8:
-            return
-        with self._lock:
-            if key in self._items:
-                self._drop(key)
-            self._items[key] = (time.monotonic(), body)
-            self._bytes += len(body)
-            while self._bytes > self.max_bytes and self._items:
-                self._drop(next(iter(self._items)))
-
-    def _drop(self, key: str) -> None:
-        _, body = self._items.pop(key)
-        self._bytes -= len(body)
+def response_store(max_bytes: int = MAX_BYTES, ttl: float = TTL_SECONDS) -> LRU:
+    """Response bodies by request hash: at most `max_bytes` in all (a body over an eighth of
+    that is not kept), each for `ttl` seconds, least recently used out first."""
+    return LRU(max_bytes, sizeof=len, ttl=ttl, largest=max_bytes // 8)
 
 
 def _is_panel_update(flask_request) -> bool:
@@ -95,10 +44,12 @@ def _is_panel_update(flask_request) -> bool:
             and (flask_request.content_length or 0) <= _MAX_BODY)
 
 
-def install_response_cache(flask_app: Flask) -> ResponseStore:
-    """Answer repeated panel-callback bodies from a per-app, per-process `ResponseStore`."""
-    store = ResponseStore()
+def install_response_cache(flask_app: Flask) -> LRU:
+    """Answer repeated panel-callback bodies from a per-app, per-process `response_store`, then
+    from the shared cache (under a prefix with the code's fingerprint)."""
+    store = response_store()
     flask_app.extensions["fdesk_responses"] = store
+    shared_prefix = f"panel-response-{memo.code_fingerprint()}:"
 
     @flask_app.before_request
     def _answer_from_store():
@@ -111,7 +62,7 @@ def install_response_cache(flask_app: Flask) -> ResponseStore:
         found, where = store.get(key), "local"
         if found is None:
             try:
-                found, where = memo.cache.get(_SHARED_PREFIX + key), "shared"
+                found, where = memo.cache.get(shared_prefix + key), "shared"
             except Exception:  # noqa: BLE001 - the guarded backend already said why
                 found = None
             if isinstance(found, bytes):
@@ -130,9 +81,8 @@ def install_response_cache(flask_app: Flask) -> ResponseStore:
         key = g.pop("fdesk_response_key", None)
         if key is not None and response.status_code == 200 and not response.is_streamed:
             data = response.get_data()
-            store.put(key, data)
-            if len(data) <= store.max_bytes // 8:
-                memo.store_behind(_SHARED_PREFIX + key, data, int(TTL_SECONDS))
+            if store.put(key, data):  # too large for the store: not shared either
+                memo.store_shared({shared_prefix + key: data}, int(TTL_SECONDS))
         return response
 
     return store

@@ -33,9 +33,14 @@
       return response.blob().then(function (blob) {
         // the server ends the file with its row count: a copy cut short on the way lacks it
         return blob.slice(Math.max(0, blob.size - 200)).text().then(function (tail) {
-          return {blob: blob, whole: tail.trim().split("\n").pop() === complete};
+          var last = tail.trim().split("\n").pop();
+          return {blob: blob, whole: last === complete, last: last};
         });
       }).then(function (got) {
+        if (got.last.indexOf("# incomplete:") === 0) {
+          say("Nothing was saved: the server " + got.last.replace("# incomplete: ", ""), true);
+          return;
+        }
         if (!got.whole) {
           say("Nothing was saved: the answer was cut short on the way (its last line is not \"" + complete +
               "\"); send the file again", true);

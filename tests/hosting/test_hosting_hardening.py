@@ -7,6 +7,7 @@ held answers only when a slow client gives up, tens of seconds later (seen with 
 
 from __future__ import annotations
 
+import http.client
 import json
 import socket
 import threading
@@ -87,3 +88,37 @@ def test_an_over_large_chunked_upload_is_refused_as_more_than_the_limit(server):
     error = json.loads(payload)["error"]
     assert status == 400 and error["field"] == "measurements"
     assert f"more than {limit} bytes" in error["message"] and "8388608" not in error["message"]
+
+
+@pytest.mark.slow
+def test_two_concurrent_million_row_catalogues_for_four_models_are_complete_or_say_they_are_not(server):
+    rows = 1_000_000
+    body = ("id,z\n" + "\n".join(f"g{i},{(i % 6000) / 1000:.3f}" for i in range(rows)) + "\n").encode()
+    query = "m1.h0=67.4&m2.w0=-0.9&m3.ok=-0.03&m4.mnu=0.2,0.1&models=all"
+    results = []
+
+    def download():
+        conn = http.client.HTTPConnection(LOOPBACK, server.port, timeout=300)
+        try:
+            conn.request("POST", f"/api/v1/catalogue?{query}", body=body, headers={"Content-Type": "text/csv"})
+            response = conn.getresponse()
+            size, tail = 0, b""
+            while block := response.read(1 << 20):
+                size += len(block)
+                tail = (tail + block)[-200:]
+            results.append((response.status, size, tail.rstrip().rsplit(b"\n", 1)[-1].decode()))
+        except http.client.HTTPException as err:  # a stream that breaks off is visible to the client
+            results.append(("broken", 0, repr(err)))
+        finally:
+            conn.close()
+
+    threads = [threading.Thread(target=download) for _ in range(2)]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join(timeout=600)
+    assert len(results) == 2
+    for status, size, last in results:
+        assert status == 200, (status, last)
+        assert last == f"# complete: {rows} rows" or last.startswith("# incomplete:"), last
+    assert "WORKER TIMEOUT" not in server.stderr()

@@ -9,7 +9,7 @@ import json
 import time
 
 from benchmarks._serving import page_update_payload
-from server.responses import ResponseStore
+from server.responses import response_store
 
 LINK = "?m1.label=Store%20A&m1.h0=68.5&m2.label=Store%20B&m2.w0=-0.93&tab=distances"
 
@@ -20,7 +20,8 @@ def _panel_body(client, search):
 
 
 def _post(client, body):
-    return client.post("/_dash-update-component", data=body, content_type="application/json")
+    # buffered: the response is finished (as a WSGI server finishes it), so its writes are done
+    return client.post("/_dash-update-component", data=body, content_type="application/json", buffered=True)
 
 
 def test_a_repeated_body_gets_the_same_bytes_and_counts_as_a_hit(app_factory):
@@ -51,14 +52,14 @@ def test_other_callbacks_are_never_answered_from_the_store(app_factory):
     body = json.loads(_panel_body(client, LINK))
     body["output"] = body["output"].replace("..fd-panel.children", "..fd-other.children")
     _post(client, json.dumps(body))
-    assert len(app.server.extensions["fdesk_responses"]._items) == 0
+    assert len(app.server.extensions["fdesk_responses"]) == 0
 
 
 def test_the_store_is_bounded_in_bytes_and_time():
-    store = ResponseStore(max_bytes=800, ttl=0.05)
+    store = response_store(max_bytes=800, ttl=0.05)
     for k in range(10):
         store.put(str(k), bytes(90))
-    assert store._bytes <= 800 and store.get("0") is None and store.get("9") == bytes(90)
+    assert store.size == 720 and store.get("0") is None and store.get("9") == bytes(90)
     store.put("big", bytes(101))  # over an eighth of the bound: not kept
     assert store.get("big") is None
     time.sleep(0.06)
@@ -66,13 +67,10 @@ def test_the_store_is_bounded_in_bytes_and_time():
 
 
 def test_another_worker_gets_the_same_bytes_from_the_shared_cache(app_factory):
-    from server import cache as memo
-
     first_app = app_factory()
     client = first_app.server.test_client()
     body = _panel_body(client, LINK.replace("68.5", "69.25"))
     first = _post(client, body)
-    memo.flush_writes()
     other = app_factory().server.test_client()  # same cache folder, empty process store
     second = _post(other, body)
     assert first.headers["X-Fdesk-Cache"] == "miss"

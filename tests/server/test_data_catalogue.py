@@ -120,3 +120,21 @@ def test_fuzzed_redshift_files_never_give_a_server_error(client, body):
         assert error["line"] >= 1 and error["column"] >= 1 and error["message"].startswith("redshift file, line")
     else:
         r.get_data()  # the stream runs to its end without raising
+
+
+def test_a_stream_past_its_deadline_ends_with_an_incomplete_line(monkeypatch):
+    monkeypatch.setattr(catalogue, "CHUNK_ROWS", 7)
+    body = io.BytesIO(("z\n" + "\n".join(str(0.1 * i) for i in range(1, 30)) + "\n").encode())
+    cosmo = model.Cosmology(h0=70.0, omega_m=0.3)
+    whole = b"".join(catalogue.stream(body, [(1, cosmo)]))
+    assert whole.decode().splitlines()[-1] == "# complete: 29 rows"
+    cut = b"".join(catalogue.stream(body, [(1, cosmo)], deadline=float("-inf"))).decode().splitlines()
+    assert cut[-1].startswith("# incomplete: stopped after 0 rows") and len(cut) == 2
+
+
+def test_a_catalogue_over_its_time_budget_is_refused_with_422(app_factory):
+    client = app_factory(CACHE_TYPE="SimpleCache", CATALOGUE_BUDGET_SECONDS=0).server.test_client()
+    r = client.post("/api/v1/catalogue?m1.h0=70", data="z\n0.5\n", content_type="text/csv")
+    assert r.status_code == 422
+    error = r.get_json()["error"]
+    assert error["field"] == "redshifts" and "0 s" in error["message"]

@@ -38,8 +38,9 @@ def test_api_answer_carries_the_new_quantity(probe, client):
 
 
 def test_table_panel_csv_carries_the_new_quantity(probe, app_factory):
-    app_factory(CACHE_TYPE="SimpleCache")  # the memo layer needs an app's cache
-    text = panels.panel_csv(panels.compare(codec.decode(QUERY)), "table")
+    app = app_factory(CACHE_TYPE="SimpleCache")
+    with app.server.app_context():  # the memo layer is the app's
+        text = panels.panel_csv(panels.compare(codec.decode(QUERY)), "table")
     rows = [r for r in csv.reader(io.StringIO(text)) if r and r[0].startswith("t_probe")]
     assert len(rows) == 2, text[:2000]
     np.testing.assert_allclose([float(r[2]) for r in rows], probe, rtol=1e-5)  # table cells: 6 digits
