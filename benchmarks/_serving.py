@@ -139,7 +139,8 @@ class Gunicorn:
         self.workers = workers
         self.prefix = prefix
         self.folder = Path(tempfile.mkdtemp(prefix="fdesk-gunicorn-"))
-        self.env = {**os.environ, "FDESK_CACHE_DIR": str(self.folder / "cache"), **(env or {})}
+        self.env = {**os.environ, "FDESK_CACHE_DIR": str(self.folder / "cache"),
+                    "FDESK_DATABASE_URL": f"sqlite:///{self.folder / 'data' / 'measurements.sqlite3'}", **(env or {})}
         self.command = command or gunicorn_command(self.port, workers)
         self.process: subprocess.Popen | None = None
 

@@ -2,8 +2,10 @@
 
 ``POST /api/v1/catalogue`` streams a redshift file back with every evaluate() column added
 (`server.catalogue`). ``POST /api/v1/data`` stores a measurement table (and optional covariance file) and answers its
-reference; ``compare`` with ``data=<hash>`` adds chi^2 per model (``server.data_store``). A
-malformed upload is a 400 naming file, line and column; an expired reference a 404.
+reference once the set is committed to the durable store; ``compare`` with ``data=<hash>`` adds
+chi^2 per model (``server.data_store``). A malformed upload is a 400 naming file, line and column;
+a removed or unknown reference a 404; too many uploads from one address a 429; a store that
+cannot be written a 503 (never a 201); a full store a 507 (`data_store.DataError.status`).
 
 Any input the page would flag is a 400 ``{"error": {"field", "message"}}``; keys we do not know
 are listed in ``warnings``. NaN and infinities are sent as null. Never a 500 for bad input.
@@ -33,6 +35,20 @@ def _package_version() -> str:
 
 def _error(field: str, message: str):
     return jsonify({"error": {"field": field, "message": message}}), 400
+
+
+def _data_error(err: "data_store.DataError"):
+    """The JSON answer for a refused upload or reference, with the status its class names."""
+    body = {"field": err.field, "message": str(err)}
+    if isinstance(err, data_store.DataRejected):
+        body.update(line=err.line, column=err.column, column_name=err.column_name)
+    if isinstance(err, data_store.UploadRateLimited):
+        body.update(limit=err.limit, window_s=err.window, retry_after_s=err.retry_after)
+    response = jsonify({"error": body})
+    response.status_code = err.status
+    if isinstance(err, data_store.UploadRateLimited):
+        response.headers["Retry-After"] = str(err.retry_after)
+    return response
 
 
 def compare_payload(query: str) -> tuple[dict, codec.Problem | None]:
@@ -83,7 +99,7 @@ def _answer(canonical: str) -> dict | None:
 def _memoized_answer(query: str) -> dict | None:
     """Whole answers are memoized by canonical link (a cached link then costs a decode and one
     small look-up instead of four models' results); links with stored data are not, since a
-    data set can expire. The link's own unknown keys are the warnings."""
+    data set can be removed. The link's own unknown keys are the warnings."""
     state = codec.decode(query)
     if state.problems() or getattr(state.view, "data", None) is not None:
         return None
@@ -181,6 +197,7 @@ def make_blueprint() -> Blueprint:
             "version": _package_version(),
             "cache": current_app.config["CACHE_TYPE"],
             "shared_cache": "ok" if getattr(cache.cache, "available", True) else "unavailable",
+            "data_store": "ok" if data_store.set_store().available else "unavailable",
         })
 
     @bp.post("/api/v1/data")
@@ -192,17 +209,13 @@ def make_blueprint() -> Blueprint:
                 f"{data_store.LIMITS.max_covariance_bytes} bytes)")}}), 413
         try:
             measurements, covariance, name = _upload_fields()
-            stored = data_store.store(measurements, covariance, name)
-        except data_store.DataRejected as err:
-            return jsonify({"error": {"field": err.field, "line": err.line, "column": err.column,
-                                      "column_name": err.column_name, "message": str(err)}}), 400
+            stored = data_store.store(measurements, covariance, name)  # returns once committed
         except data_store.DataError as err:
-            return jsonify({"error": {"field": err.field, "message": str(err)}}), 503
+            return _data_error(err)
         data = stored.measurements
         return jsonify({"data": stored.hash, "query": f"data={stored.hash}", "rows": len(data),
                         "kinds": {k: int((data.kind == k).sum()) for k in data.kinds_present},
-                        "covariance": data.covariance_source,
-                        "expires_in_s": int(current_app.config.get("DATA_TIMEOUT", data_store.DEFAULT_TIMEOUT))}), 201
+                        "covariance": data.covariance_source}), 201
 
     @bp.post("/api/v1/catalogue")
     def catalogue_columns():
@@ -218,10 +231,8 @@ def make_blueprint() -> Blueprint:
                 except Uncacheable:
                     pass  # refused or not memoized: answered below
             payload, problem = compare_payload(query)
-        except data_store.DataNotFound as err:
-            return jsonify({"error": {"field": err.field, "message": str(err)}}), 404
-        except data_store.DataError as err:
-            return _error(err.field, str(err))
+        except data_store.DataError as err:  # 404 removed or unknown, 503 store out, else 400
+            return _data_error(err)
         except BudgetExceeded:
             raise  # answered by server.limits (422, field "query")
         except Exception as err:  # noqa: BLE001 - a model failure must still answer in JSON

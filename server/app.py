@@ -37,6 +37,8 @@ def create_app(config: dict | None = None) -> dash.Dash:
     prefix = normalise_prefix(flask_app.config["URL_PREFIX"])
     flask_app.config["URL_PREFIX"] = prefix
     attach_cache(flask_app)
+    from server import data_store  # deferred: it imports the model
+    data_store.attach(flask_app)  # the durable store of uploaded sets, opened (and migrated) now
     if not any(isinstance(f, RedactExceptions) for f in flask_app.logger.filters):
         flask_app.logger.addFilter(RedactExceptions())  # the logger is shared by name: add it once
 

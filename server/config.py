@@ -38,6 +38,15 @@ def default_config() -> dict:
         "TRUSTED_PROXIES": 0,  # reverse proxies whose X-Forwarded-* headers are believed
         "MAX_CONTENT_LENGTH": 8 * 1024 * 1024,  # above the data upload's own 5 MiB limit
         "FRAME_ANCESTORS": "'self'",
+        # Uploaded measurement sets (README, "Where your data live"): kept in a database, not
+        # the cache. None means SQLite in $XDG_DATA_HOME/friedmann-desk/ (server.set_store);
+        # DATA_MAX_BYTES bounds what it holds (507 when full); each client address may upload
+        # UPLOAD_RATE_LIMIT sets per UPLOAD_RATE_WINDOW_SECONDS (429 past it; 0: no limit).
+        "DATABASE_URL": None,
+        "DATA_MAX_BYTES": 2 << 30,  # 2 GiB: 2000 sets at the 1 MiB file limit (judgement, no source)
+        "DATA_STORE_TIMEOUT_SECONDS": 5.0,
+        "UPLOAD_RATE_LIMIT": 120,  # a few tries a minute pass; a flooding script does not (judgement)
+        "UPLOAD_RATE_WINDOW_SECONDS": 3600.0,
     }
 
 

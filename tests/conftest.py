@@ -29,11 +29,13 @@ def pytest_setup_options():
 
 @pytest.fixture
 def app_factory(tmp_path):
-    """Build apps through `create_app` with a private FileSystemCache folder."""
+    """Build apps through `create_app` with a private FileSystemCache folder and a private
+    measurement store (SQLite in the test's folder)."""
     from server import create_app
 
     def build(**overrides):
-        config = {"CACHE_TYPE": "FileSystemCache", "CACHE_DIR": str(tmp_path / "cache"), **overrides}
+        config = {"CACHE_TYPE": "FileSystemCache", "CACHE_DIR": str(tmp_path / "cache"),
+                  "DATABASE_URL": f"sqlite:///{tmp_path / 'data' / 'measurements.sqlite3'}", **overrides}
         return create_app(config)
 
     return build
