@@ -29,7 +29,8 @@ def _json_size(tree) -> int:
 
 
 def run():
-    app = create_app({"CACHE_TYPE": "SimpleCache", "CACHE_DIR": tempfile.mkdtemp()})
+    folder = tempfile.mkdtemp()
+    app = create_app({"CACHE_TYPE": "SimpleCache", "CACHE_DIR": folder, "DATABASE_URL": f"sqlite:///{folder}/m.sqlite3"})
     client = app.server.test_client()
     raw = data_store.demo_bytes()
     post = _median_time(lambda: client.post("/api/v1/data", data=raw, content_type="text/csv"), 5)
