@@ -35,11 +35,11 @@ import datetime as dt
 import hashlib
 import logging
 import math
-import pickle
 from dataclasses import dataclass, fields
 from pathlib import Path
 
 import numpy as np
+from cachelib.serializers import FileSystemSerializer
 from flask import current_app, has_request_context, request
 
 import model
@@ -225,7 +225,8 @@ def _old_cache_entries(flask_app):
                     if _OLD_KEY[:-1].encode() not in head:
                         continue  # a model result: not worth unpickling
                     handle.seek(4)
-                    value = pickle.load(handle)  # this server's own cache files (README, Security)
+                    # read as the file cache itself reads them: this server's own files (README, Security)
+                    value = FileSystemSerializer().load(handle)
             except Exception:  # noqa: BLE001 - an unreadable file is no set
                 continue
             if _is_old_entry(value):
