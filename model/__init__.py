@@ -15,6 +15,7 @@ from ._epochs import cosmic_time, epochs, scale_factor_history
 from ._errors import ModelError, NoBigBangError, ParameterError
 from ._fit import (CONFIDENCE_LEVELS_2D, FIT_PARAMETERS, Chi2Map, DistanceBatch, FitError,
                    FitResult, chi2_map, quick_fit)
+from ._growth import linear_growth
 from ._inverse import INVERTIBLE, redshift_at
 from ._likelihood import GoodnessOfFit, KindResiduals, Nuisances, compare_models, goodness_of_fit
 from ._measurements import (MEASUREMENT_COLUMNS, MEASUREMENT_KINDS, MeasurementFormatError,
@@ -51,6 +52,7 @@ __all__ = [
     "z_drag_fit",
     "r_drag_fit",
     "redshift_at",
+    "linear_growth",
     "INVERTIBLE",
     # measurements and goodness of fit
     "MEASUREMENT_KINDS",
