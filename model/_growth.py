@@ -88,16 +88,21 @@ class Growth:
 
     def __init__(self, cosmo):
         k = np.arange(_K_START, _K_END + 1)
-        s = k * STEP
-        a_coef, b_coef = _coefficients(cosmo, s)
+        nodes = k * STEP
+        mid = 0.5 * (nodes[:-1] + nodes[1:])
+        # the budget at the nodes and at both Gauss points of every step, in one pass
+        every = np.concatenate([nodes, mid + STEP * _GAUSS[0], mid + STEP * _GAUSS[1]])
+        a_all, b_all = _coefficients(cosmo, every)
+        size = nodes.size
+        a_coef, b_coef = a_all[:size], b_all[:size]
+        a1, b1 = a_all[size:2 * size - 1], b_all[size:2 * size - 1]
+        a2, b2 = a_all[2 * size - 1:], b_all[2 * size - 1:]
         # the grid ends before the first node where E² ≤ 0 (a future turnaround)
         bad = np.flatnonzero(~np.isfinite(a_coef) | ~np.isfinite(b_coef))
-        end = int(bad[0]) if bad.size else s.size
-        s, a_coef, b_coef = s[:end], a_coef[:end], b_coef[:end]
-        mid = 0.5 * (s[:-1] + s[1:])
-        g1, g2 = mid + STEP * _GAUSS[0], mid + STEP * _GAUSS[1]
-        (a1, b1), (a2, b2) = _coefficients(cosmo, g1), _coefficients(cosmo, g2)
-        n = mid.size
+        end = int(bad[0]) if bad.size else size
+        s, a_coef, b_coef = nodes[:end], a_coef[:end], b_coef[:end]
+        a1, b1, a2, b2 = a1[:end - 1], b1[:end - 1], a2[:end - 1], b2[:end - 1]
+        n = max(end - 1, 0)
 
         def system(a, b):
             m = np.zeros((a.size, 2, 2))
