@@ -173,9 +173,8 @@ def _budget(cosmo: model.Cosmology) -> dict:
         fractions = model.density_parameters(cosmo, z)
         rho = model.densities(cosmo, z)
         ends = np.array([a[0], a[-1]])
-        # ρ today from the grid (ln a is uniform on it); a guide is NaN where that is not positive
-        today = {k: float(np.interp(0.0, np.log(a), np.asarray(rho[k], dtype=float)))
-                 for k in GUIDE_POWERS if k in rho}
+        # each guide passes through the component's density today; NaN where that is not positive
+        today = {k: float(np.asarray(v).ravel()[0]) for k, v in model.densities(cosmo, np.zeros(1)).items()}
         guides = {k: today[k] * ends ** power if math.isfinite(today[k]) and today[k] > 0 else np.full(2, np.nan)
                   for k, power in GUIDE_POWERS.items() if k in today}
     return {"a": a, "omega": fractions, "rho": rho, "guides": guides, "guide_a": ends}
