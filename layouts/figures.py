@@ -178,7 +178,8 @@ def figure(spec: dict) -> dict:
     strip = spec.get("strip")
     data = [_trace(s, spec, "y") for s in spec["series"]]
     points = spec.get("points", [])
-    data += [_points_trace(p, spec, "y", crowded=_crowded(points)) for p in points]
+    crowded = _crowded(points)
+    data += [_points_trace(p, spec, "y", crowded=crowded) for p in points]
     layout = {
         "title": {"text": escape_for_figure(render(spec.get("title", ""))), "x": 0.01, "font": {"size": 14}},
         "font": FONT,

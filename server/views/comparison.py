@@ -53,9 +53,6 @@ class Comparison:
     failures: dict  # slot -> Problem
     extras: dict = field(default_factory=dict)  # the stored measurements and scores, looked up once
 
-    def problem(self, slot: int):
-        return self.failures.get(slot)
-
 
 def compare(state: codec.LinkState) -> Comparison:
     """Resolve every slot and fetch its (memoized) curves; a model that fails is reported, the
