@@ -39,7 +39,7 @@ def _grid(header: list[str], sections: list[tuple[str | None, list[list[str]]]],
             for heading, rows in sections for row in rows]
     return dag.AgGrid(
         className="fd-grid", columnDefs=columns, rowData=data, columnSize="autoSize",
-        defaultColDef={"sortable": False, "resizable": True, "suppressMovable": True, "filter": False},
+        defaultColDef={"sortable": False, "resizable": False, "suppressMovable": True, "filter": False},
         dashGridOptions={"domLayout": "autoHeight", "enableCellSpan": grouped, "rowHeight": _ROW_HEIGHT,
                          "headerHeight": _ROW_HEIGHT + 4, "suppressColumnVirtualisation": True,
                          "suppressRowVirtualisation": True, "suppressCellFocus": True,
