@@ -29,8 +29,10 @@ def _header_style(slot) -> dict:
 def _grid(header: list[str], sections: list[tuple[str | None, list[list[str]]]], column_slots: list) -> dag.AgGrid:
     fields = [f"c{i}" for i in range(len(header))]
     # the first column names the row (left), the others hold numbers (right-aligned)
-    columns = [{"headerName": h, "field": f, "headerStyle": _header_style(slot), **({"type": "rightAligned"} if i else {})}
-               for i, (h, f, slot) in enumerate(zip(header, fields, column_slots))]
+    columns = [{"headerName": h, "field": f, "headerStyle": _header_style(slot)}
+               for h, f, slot in zip(header, fields, column_slots)]
+    for column in columns[1:]:
+        column["type"] = "rightAligned"
     grouped = any(heading is not None for heading, _ in sections)
     if grouped:
         columns.insert(0, {"headerName": "", "field": _SECTION, "spanRows": True,

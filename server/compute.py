@@ -18,8 +18,8 @@ from server import codec
 from server.cache import memoized
 
 __all__ = [
-    "GRID_POINTS", "LINEAR_GRID_ZMAX", "SIGNIFICANT_DIGITS", "A_MIN", "A_MAX", "GUIDE_POWERS", "Resolved", "resolve", "resolve_all",
-    "model_curves", "values_at", "round_significant", "json_ready", "survey_volume", "inverse_lookup",
+    "GRID_POINTS", "LINEAR_GRID_ZMAX", "SIGNIFICANT_DIGITS", "A_MIN", "A_MAX", "GUIDE_POWERS", "Resolved", "resolve",
+    "resolve_all", "model_curves", "values_at", "round_significant", "json_ready", "survey_volume", "inverse_lookup",
     "cosmology_for", "goodness", "fit", "chi2_grid", "fitted_count",
 ]
 

@@ -79,7 +79,8 @@ def build(c: Comparison) -> PanelSpec:
     if stored is None:
         text = problem or ("No measurements in this link yet: upload or paste a table above, or load the "
                            "synthetic demo data.")
-        return {"controls": controls, "blocks": [{"kind": "text", "text": text, "tone": "error" if problem else "note"}]}
+        return {"controls": controls,
+                "blocks": [{"kind": "text", "text": text, "tone": "error" if problem else "note"}]}
     d = stored.measurements
     counts = ", ".join(f"{int(np.sum(d.kind == k))} {KIND_TITLES[k][0]}" for k in d.kinds_present)
     about = (f"Measurement set data={stored.hash}" + (f" ({stored.name})" if stored.name else "") +

@@ -72,7 +72,8 @@ def store_upload(state: codec.LinkState, measurements, covariance=None, name: st
     """Store an upload and return ``(new search, message)``; raises `data_store.DataError`."""
     stored = data_store.store(measurements, covariance, name)
     what = SYNTHETIC_NOTE if is_synthetic(stored) else (stored.name or "your table")
-    message = f"Stored {len(stored.measurements)} measurements from {what} as data={stored.hash}; the link now carries it."
+    message = (f"Stored {len(stored.measurements)} measurements from {what} as data={stored.hash}; the link now "
+               "carries it.")
     return "?" + codec.encode(states.with_data(state, stored.hash)), message
 
 

@@ -92,7 +92,8 @@ def test_fit_report_load_into_slot_and_aic(ctx, table_text):
     np.testing.assert_allclose(fit["values"], direct.values, rtol=1e-9)
     np.testing.assert_allclose(fit["errors"], direct.errors, rtol=1e-9)
     report = data_tools.fit_report(fit)
-    assert render(report["rows"][0][1]) == number(direct.values[0], 6) and report["rows"][0][0] == "Ω_m [dimensionless]"
+    assert report["rows"][0][0] == "Ω_m [dimensionless]"
+    assert render(report["rows"][0][1]) == number(direct.values[0], 6)
     assert render(report["rows"][1][3]) == f"{number(-1.5, 4)} to {number(-0.5, 4)}"  # w₀'s bounds as given
     assert any(number(direct.chi2_min, 6) in render(line) for line in report["summary"])
     new = state_module.with_fit(state, fit)
