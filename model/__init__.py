@@ -13,13 +13,13 @@ from ._budget import COMPONENTS, densities, density_parameters, w_dark_energy, w
 from ._distances import QUANTITIES, Z_MAX, Z_MIN, evaluate
 from ._epochs import cosmic_time, epochs, scale_factor_history
 from ._errors import ModelError, NoBigBangError, ParameterError
-from ._fit import (CONFIDENCE_LEVELS_2D, FIT_PARAMETERS, Chi2Map, DistanceBatch, FitError,
-                   FitResult, chi2_map, quick_fit)
 from ._inverse import INVERTIBLE, redshift_at
-from ._likelihood import GoodnessOfFit, KindResiduals, Nuisances, compare_models, goodness_of_fit
-from ._measurements import (MEASUREMENT_COLUMNS, MEASUREMENT_KINDS, MeasurementFormatError,
-                            MeasurementLimits, MeasurementSet, parse_measurements,
-                            read_measurements)
+from .fitting import (CONFIDENCE_LEVELS_2D, FIT_PARAMETERS, MEASUREMENT_COLUMNS, MEASUREMENT_KINDS,
+                      PREDICTIONS, Chi2Map, DistanceBatch, FitError, FitResult, GoodnessOfFit,
+                      KindResiduals, MeasurementFormatError, MeasurementKind, MeasurementLimits,
+                      MeasurementSet, Nuisances, TableFormatError, chi2_map, compare_models,
+                      content_cells, goodness_of_fit, parse_measurements, quick_fit,
+                      read_lines, read_measurements, read_rows)
 from ._params import MAX_NEUTRINO_SPECIES, PARAMETERS, Cosmology, ParameterSpec
 
 __all__ = [
@@ -49,8 +49,14 @@ __all__ = [
     "r_drag_fit",
     "redshift_at",
     "INVERTIBLE",
-    # measurements and goodness of fit
+    # measurements and goodness of fit (model.fitting)
+    "TableFormatError",
+    "read_lines",
+    "content_cells",
+    "read_rows",
+    "MeasurementKind",
     "MEASUREMENT_KINDS",
+    "PREDICTIONS",
     "MEASUREMENT_COLUMNS",
     "MeasurementFormatError",
     "MeasurementLimits",
