@@ -88,6 +88,8 @@ class _Problem:
         base, bao = observable_parts(
             self.data, quantities["hubble_parameter"], quantities["comoving_distance"],
             quantities["transverse_comoving_distance"])
+        # only nuisances vary (or none): every set shares the base model's distances
+        base, bao = (np.broadcast_to(a, (n_sets, a.shape[1])) for a in (base, bao))
         if "r_d" in sets:
             r_d = np.broadcast_to(sets["r_d"], n_sets)
         elif self.nuisances.r_d == "free":
