@@ -14,6 +14,7 @@ from ._distances import QUANTITIES, Z_MAX, Z_MIN, evaluate
 from ._epochs import cosmic_time, epochs, scale_factor_history
 from ._errors import ModelError, NoBigBangError, ParameterError
 from ._inverse import INVERTIBLE, redshift_at
+from . import fitting
 from .fitting import (CONFIDENCE_LEVELS_2D, FIT_PARAMETERS, MEASUREMENT_COLUMNS, MEASUREMENT_KINDS,
                       PREDICTIONS, Chi2Map, DistanceBatch, FitError, FitResult, GoodnessOfFit,
                       KindResiduals, MeasurementFormatError, MeasurementKind, MeasurementLimits,
@@ -49,31 +50,5 @@ __all__ = [
     "r_drag_fit",
     "redshift_at",
     "INVERTIBLE",
-    # measurements and goodness of fit (model.fitting)
-    "TableFormatError",
-    "read_lines",
-    "content_cells",
-    "read_rows",
-    "MeasurementKind",
-    "MEASUREMENT_KINDS",
-    "PREDICTIONS",
-    "MEASUREMENT_COLUMNS",
-    "MeasurementFormatError",
-    "MeasurementLimits",
-    "MeasurementSet",
-    "parse_measurements",
-    "read_measurements",
-    "Nuisances",
-    "GoodnessOfFit",
-    "KindResiduals",
-    "goodness_of_fit",
-    "compare_models",
-    "FIT_PARAMETERS",
-    "CONFIDENCE_LEVELS_2D",
-    "FitError",
-    "FitResult",
-    "Chi2Map",
-    "DistanceBatch",
-    "quick_fit",
-    "chi2_map",
+    *fitting.__all__,  # measurements, goodness of fit and fits
 ]

@@ -6,6 +6,7 @@ delta-chi^2 maps over many parameter sets (:class:`DistanceBatch`, :func:`quick_
 :func:`chi2_map`). Every name here is also exported by ``model`` itself.
 """
 
+from . import _batch, _fit, _kinds, _likelihood, _maps, _measurements, _rows
 from ._batch import DistanceBatch
 from ._fit import FIT_PARAMETERS, FitError, FitResult, quick_fit
 from ._kinds import MEASUREMENT_KINDS, PREDICTIONS, MeasurementKind
@@ -15,31 +16,5 @@ from ._measurements import (MEASUREMENT_COLUMNS, MeasurementFormatError, Measure
                             MeasurementSet, parse_measurements, read_measurements)
 from ._rows import TableFormatError, content_cells, read_lines, read_rows
 
-__all__ = [
-    "TableFormatError",
-    "read_lines",
-    "content_cells",
-    "read_rows",
-    "MeasurementKind",
-    "MEASUREMENT_KINDS",
-    "PREDICTIONS",
-    "MEASUREMENT_COLUMNS",
-    "MeasurementFormatError",
-    "MeasurementLimits",
-    "MeasurementSet",
-    "parse_measurements",
-    "read_measurements",
-    "Nuisances",
-    "GoodnessOfFit",
-    "KindResiduals",
-    "goodness_of_fit",
-    "compare_models",
-    "FIT_PARAMETERS",
-    "CONFIDENCE_LEVELS_2D",
-    "FitError",
-    "FitResult",
-    "Chi2Map",
-    "DistanceBatch",
-    "quick_fit",
-    "chi2_map",
-]
+__all__ = [*_rows.__all__, *_kinds.__all__, *_measurements.__all__, *_likelihood.__all__,
+           *_fit.__all__, *_maps.__all__, *_batch.__all__]

@@ -17,7 +17,7 @@ from .._background import components, dark_energy_factor
 from .._constants import SPEED_OF_LIGHT_KM_S
 from .._distances import transverse
 
-__all__ = ["DistanceBatch", "COSMOLOGICAL"]
+__all__ = ["DistanceBatch"]
 
 #: The parameters a batch varies per set.
 COSMOLOGICAL = ("h0", "omega_m", "omega_k", "w0", "wa")

@@ -13,7 +13,7 @@ import numpy as np
 
 from .._constants import SPEED_OF_LIGHT_KM_S
 
-__all__ = ["MeasurementKind", "MEASUREMENT_KINDS", "PREDICTIONS", "kinds_with"]
+__all__ = ["MeasurementKind", "MEASUREMENT_KINDS", "PREDICTIONS"]
 
 
 @dataclasses.dataclass(frozen=True)
