@@ -19,7 +19,7 @@ RUN useradd --system --uid 10001 --create-home fdesk \
     && chown fdesk /var/cache/friedmann-desk
 
 WORKDIR /app
-COPY constraints.txt pyproject.toml README.md ./
+COPY constraints.txt pyproject.toml README.md gunicorn.conf.py ./
 COPY model ./model
 COPY server ./server
 COPY layouts ./layouts

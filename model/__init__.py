@@ -10,7 +10,7 @@ A pure numpy/scipy library, usable from a notebook::
 
 from ._acoustic import acoustic_scales, r_drag_fit, sound_horizon, z_drag_fit, z_star_fit
 from ._budget import COMPONENTS, densities, density_parameters, w_dark_energy, w_effective
-from ._distances import QUANTITIES, Z_MAX, Z_MIN, evaluate
+from ._distances import Z_MAX, Z_MIN, evaluate
 from ._epochs import cosmic_time, epochs, scale_factor_history
 from ._errors import ModelError, NoBigBangError, ParameterError
 from ._inverse import INVERTIBLE, redshift_at
@@ -21,6 +21,7 @@ from .fitting import (CONFIDENCE_LEVELS_2D, FIT_PARAMETERS, MEASUREMENT_COLUMNS,
                       MeasurementSet, Nuisances, TableFormatError, chi2_map, compare_models,
                       content_cells, goodness_of_fit, parse_measurements, quick_fit,
                       read_lines, read_measurements, read_rows)
+from ._quantities import QUANTITIES, THEMES, Quantity
 from ._params import MAX_NEUTRINO_SPECIES, PARAMETERS, Cosmology, ParameterSpec
 
 __all__ = [
@@ -33,6 +34,8 @@ __all__ = [
     "NoBigBangError",
     "evaluate",
     "QUANTITIES",
+    "Quantity",
+    "THEMES",
     "Z_MIN",
     "Z_MAX",
     "density_parameters",

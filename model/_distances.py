@@ -11,6 +11,7 @@ import numpy as np
 from . import _constants as const
 from ._errors import ParameterError
 from ._future import future
+from ._quantities import QUANTITIES
 from ._tables import tables
 
 __all__ = ["evaluate", "QUANTITIES", "Z_MIN", "Z_MAX", "as_redshifts", "transverse"]
@@ -19,25 +20,6 @@ Z_MIN = -0.99
 Z_MAX = 1.0e5
 _CHUNK = 16384
 
-QUANTITIES = {
-    "scale_factor": ("", "scale factor a = 1/(1+z)"),
-    "hubble_parameter": ("km/s/Mpc", "Hubble parameter H(z)"),
-    "hubble_distance_at_z": ("Mpc", "Hubble distance c/H(z)"),
-    "comoving_distance": ("Mpc", "line-of-sight comoving distance D_C"),
-    "transverse_comoving_distance": ("Mpc", "transverse comoving distance D_M"),
-    "angular_diameter_distance": ("Mpc", "angular-diameter distance D_A"),
-    "luminosity_distance": ("Mpc", "luminosity distance D_L"),
-    "distance_modulus": ("mag", "distance modulus μ"),
-    "lookback_time": ("Gyr", "lookback time"),
-    "age": ("Gyr", "age of the universe at z"),
-    "comoving_volume": ("Gpc³", "all-sky comoving volume within z"),
-    "comoving_volume_element": ("Mpc³/sr", "comoving volume per steradian per unit z"),
-    "angular_scale": ("kpc/arcsec", "proper length per arcsecond"),
-    "volume_averaged_distance": ("Mpc", "BAO volume-averaged distance D_V"),
-    "particle_horizon": ("Mpc", "comoving particle horizon"),
-    "event_horizon": ("Mpc", "comoving event horizon"),
-    "deceleration_parameter": ("", "deceleration parameter q"),
-}
 
 
 def as_redshifts(z, name="z", lo=Z_MIN, hi=Z_MAX, above=False):
@@ -158,12 +140,19 @@ def evaluate(cosmo, z):
     tab = tables(cosmo)
     fut = future(cosmo)
     future_points = bool(flat.size) and bool(flat.min() < 0.0)
-    out = {key: np.empty(flat.size) for key in QUANTITIES}
+    # NaN until computed: a registered quantity that nothing fills can never return
+    # uninitialised memory (tests/model check that every registered key is computed).
+    out = {key: np.full(flat.size, np.nan) for key, q in QUANTITIES.items() if q.derive is None}
     for start in range(0, flat.size, _CHUNK):
         sl = slice(start, start + _CHUNK)
         _evaluate_chunk(cosmo, tab, fut, flat[sl], {k: v[sl] for k, v in out.items()},
                         future_points)
-    return {k: v.reshape(shape) for k, v in out.items()}
+    for key, q in QUANTITIES.items():
+        if q.derive is not None:
+            with np.errstate(all="ignore"):
+                out[key] = np.broadcast_to(np.asarray(q.derive(cosmo, flat, out), dtype=float),
+                                           flat.shape).copy()
+    return {k: out[k].reshape(shape) for k in QUANTITIES}
 
 
 # Below this redshift age and particle horizon are taken as differences from their values

@@ -4,21 +4,14 @@ import math
 
 import numpy as np
 
-from ._distances import QUANTITIES, Z_MAX, evaluate
+from ._distances import Z_MAX, evaluate
+from ._quantities import QUANTITIES, invertible_quantities
 from ._errors import ParameterError
 
 __all__ = ["redshift_at", "INVERTIBLE"]
 
-INVERTIBLE = (
-    "age",
-    "lookback_time",
-    "comoving_distance",
-    "transverse_comoving_distance",
-    "luminosity_distance",
-    "distance_modulus",
-    "comoving_volume",
-    "particle_horizon",
-)
+# The registry marks what can be inverted; each needs its slope in _value_and_slope.
+INVERTIBLE = invertible_quantities()
 
 
 _MAX_STEPS = 60
@@ -103,7 +96,7 @@ def redshift_at(cosmo, quantity, values):
     rising = np.concatenate([[True], np.diff(g) > 0]) & good
     end = int(np.argmin(rising)) if not rising.all() else f.size
     g, z_nodes, f = g[:end], z_nodes[:end], f[:end]
-    unit = QUANTITIES[quantity][0]
+    unit = QUANTITIES[quantity].unit
     lo, hi = (f[0], f[-1]) if sign > 0 else (f[-1], f[0])
     flat = vals.ravel()
     target = sign * flat

@@ -138,13 +138,29 @@ def _upload_fields() -> tuple[bytes | None, bytes | None, str]:
             return None, ""
         measurements, name = field("measurements")
         covariance, _ = field("covariance")
+        if measurements is None and covariance is None:
+            received = request.content_length if request.content_length is not None else "an unknown number of"
+            raise data_store.DataRejected("measurements", (
+                f"measurements: received {received} bytes as {request.mimetype} with no 'measurements' field "
+                "(curl -d sends this type by default); send the table as a file field of a multipart form "
+                "(curl -F measurements=@table.csv) or as the body itself with Content-Type: text/csv "
+                "(curl --data-binary @table.csv -H 'Content-Type: text/csv')"))
         return measurements, covariance, name
-    body = request.get_data(cache=False)
+    # Read one byte past what could be accepted: a chunked body (no Content-Length) that is too
+    # large is then refused as "more than" the limit, not reported at the size it was cut to.
+    limit = data_store.LIMITS.max_bytes + (data_store.LIMITS.max_covariance_bytes
+                                           if request.mimetype == "application/json" else 0)
+    body = request.stream.read(limit + 1)
+    if len(body) > limit:
+        field = "body" if request.mimetype == "application/json" else "measurements"
+        raise data_store.DataRejected(field, f"{field}: more than {limit} bytes were sent; the limit is "
+                                             f"{limit} bytes ({limit / 1048576:g} MiB)")
     if request.mimetype == "application/json":
         try:
             document = json.loads(body.decode("utf-8"))
-        except (UnicodeDecodeError, ValueError) as err:
-            raise data_store.DataRejected("body", f"body: not valid JSON ({err}); send "
+        except (UnicodeDecodeError, ValueError, RecursionError) as err:
+            reason = "nested too deeply" if isinstance(err, RecursionError) else err
+            raise data_store.DataRejected("body", f"body: not valid JSON ({reason}); send "
                                                   '{"measurements": "<table text>", "covariance": "<optional>"}')
         if not isinstance(document, dict) or not isinstance(document.get("measurements"), str) or \
                 not isinstance(document.get("covariance", ""), (str, type(None))):

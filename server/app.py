@@ -8,10 +8,12 @@ from pathlib import Path
 
 import dash
 from flask import Flask
+from werkzeug.middleware.proxy_fix import ProxyFix
 
 from server.cache import cache, code_fingerprint, guard_backend, writable_folder
 from server.config import ENV_PREFIX, default_config, normalise_prefix, redis_options
-from server.headers import SecurityHeaders, content_security_policy, security_headers
+from server.guards import install_guards
+from server.headers import SecurityHeaders, content_security_policy, install_cache_headers, security_headers
 from server.limits import install_limits
 from server.requestlog import RedactExceptions, RequestLog
 from server.responses import install_response_cache
@@ -78,9 +80,17 @@ def create_app(config: dict | None = None) -> dash.Dash:
     )
     app.layout = page(callbacks.page_options())
     callbacks.register(app)
+    install_guards(flask_app, app, prefix)
     install_response_cache(flask_app)
+    install_cache_headers(flask_app, prefix)
     csp = content_security_policy(app.csp_hashes(), flask_app.config["FRAME_ANCESTORS"])
-    flask_app.wsgi_app = RequestLog(SecurityHeaders(flask_app.wsgi_app, security_headers(csp)))
+    wsgi = SecurityHeaders(flask_app.wsgi_app, security_headers(csp))
+    proxies = int(flask_app.config.get("TRUSTED_PROXIES") or 0)
+    if proxies > 0:
+        # Behind that many reverse proxies, believe their X-Forwarded-For/-Proto/-Host/-Prefix
+        # (FDESK_TRUSTED_PROXIES; README, "Hosting it for a group")
+        wsgi = ProxyFix(wsgi, x_for=proxies, x_proto=proxies, x_host=proxies, x_prefix=proxies)
+    flask_app.wsgi_app = RequestLog(wsgi)
     return app
 
 

@@ -20,74 +20,15 @@ from layouts.data_panel import fit_report, map_view, messages
 from layouts.ids import ids
 from layouts.page import notice, panel_body
 import model
-from server import codec, data_store, panels
-from server.presets import apply_preset
+from server import codec, data_store, panels, state as states
 
-__all__ = ["register", "page_options", "state_from_inputs", "apply_action", "upload_bytes"]
+__all__ = ["register", "page_options", "upload_bytes"]
 
 logger = logging.getLogger(__name__)
 
 
 def page_options() -> dict:
     return panels.page_options()
-
-
-def _lowest_free_slot(state: codec.LinkState) -> int | None:
-    free = [n for n in range(1, codec.MAX_SLOTS + 1) if n not in state.slots()]
-    return free[0] if free else None
-
-
-def apply_action(state: codec.LinkState, action: str, slot: int | None = None, value=None) -> codec.LinkState:
-    """A card button or preset applied to a state (returns a new state)."""
-    models = list(state.models)
-    if action == "add":
-        new = _lowest_free_slot(state)
-        if new is None:
-            return state
-        models.append(codec.ModelState(slot=new))
-    elif action == "duplicate":
-        new = _lowest_free_slot(state)
-        source = next((m for m in models if m.slot == slot), None)
-        if new is None or source is None:
-            return state
-        label = (source.label or source.name) + " (copy)"
-        models.append(dataclasses.replace(source, slot=new, label=label[:codec.MAX_LABEL_LENGTH]))
-    elif action == "remove":
-        if len(models) <= 1:
-            return state
-        models = [m for m in models if m.slot != slot]
-    elif action == "preset":
-        models = [apply_preset(m, value) if m.slot == slot else m for m in models]
-    models.sort(key=lambda m: m.slot)
-    view = state.view
-    if view.reference not in [m.slot for m in models] or view.reference == models[0].slot:
-        view = dataclasses.replace(view, reference=None)
-    if view.fit is not None and view.fit[0] not in [m.slot for m in models]:
-        view = dataclasses.replace(view, fit=None)  # the fitted model was removed
-    return codec.LinkState(models=tuple(models), view=view)
-
-
-def state_from_inputs(current: codec.LinkState, params: list[tuple[dict, str]], views: list[tuple[str, str]],
-                      tab, reference, zmax) -> codec.LinkState:
-    """The state the inputs on screen describe. `params` are ``(id, value)`` pairs of the card
-    inputs; the view inputs override the current link's keys; everything else is kept."""
-    pairs = dict(urllib.parse.parse_qsl(codec.encode(current), keep_blank_values=True))
-    slots_on_screen = sorted({pid["slot"] for pid, _ in params})
-    for slot in slots_on_screen:
-        for key in [k for k in pairs if k.startswith(f"m{slot}.")]:
-            del pairs[key]
-    for pid, value in params:
-        text = "" if value is None else str(value)
-        if text or pid["key"] == "mnu":
-            pairs[f"m{pid['slot']}.{pid['key']}"] = text
-        elif not any(k.startswith(f"m{pid['slot']}.") for k in pairs):
-            pairs[f"m{pid['slot']}.label"] = ""
-    for key, value in views + [("tab", tab), ("ref", reference), ("zmax", zmax)]:
-        if value is None or str(value) == "":
-            pairs.pop(key, None)
-        else:
-            pairs[key] = str(value)
-    return codec.decode(urllib.parse.urlencode(pairs, quote_via=urllib.parse.quote))
 
 
 def upload_bytes(contents: str | None, field: str) -> bytes | None:
@@ -159,12 +100,12 @@ def register(app) -> None:
             if not value:
                 return nothing
             action = trigger["type"].removeprefix("fd-")
-            return write(apply_action(current, action, trigger["slot"], value))
+            return write(states.apply_action(current, action, trigger["slot"], value))
         if trigger == ids.add:
-            return write(apply_action(current, "add")) if value else nothing
+            return write(states.apply_action(current, "add")) if value else nothing
         params = [(item["id"], item.get("value")) for item in ctx.inputs_list[1]]
         views = [(item["id"]["key"], item.get("value")) for item in ctx.inputs_list[2]]
-        new = state_from_inputs(current, params, views, tab, reference, zmax)
+        new = states.apply_inputs(current, params, views + [("tab", tab), ("ref", reference), ("zmax", zmax)])
         if codec.encode(new) == codec.encode(current):
             return nothing
         reference_changed = trigger == ids.reference
@@ -286,8 +227,8 @@ def register(app) -> None:
             return no_update, no_update
         state = codec.decode(search or "")
         try:
-            new = panels.state_with_fit(state, fit)
-        except panels.FitRequestError as err:
+            new = states.with_fit(state, fit)
+        except states.TransitionError as err:
             return no_update, messages([("error", str(err))])
         slot = new.view.fit[0]
         return "?" + codec.encode(new), messages([("ok", f"loaded into m{slot}; it is part of the link now")])

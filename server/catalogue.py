@@ -155,97 +155,151 @@ def check(handle) -> int:
 
 def column_names(models: list[tuple[int, object]]) -> list[str]:
     """``m<slot>:<quantity>[<unit>]`` for every model and every `model.QUANTITIES` key."""
-    return [f"m{slot}:{key}[{unit or 'dimensionless'}]" for slot, _ in models
-            for key, (unit, _) in model.QUANTITIES.items()]
+    return [f"m{slot}:{key}[{q.unit or 'dimensionless'}]" for slot, _ in models
+            for key, q in model.QUANTITIES.items()]
 
 
-_CELL = 16  # sign, d, ".", 8 digits, "e", sign, 3 exponent digits: 9 significant digits
-_SPACE, _ZERO = ord(" "), ord("0")
-_POW10 = 10 ** np.arange(8, -1, -1, dtype=np.int64)  # place values of the 9 mantissa digits
+_CELL = 16  # sign, d, ".", 8 digits, "e", sign, up to 3 exponent digits: 9 significant digits
+_PAD = 0  # filler removed before sending; a NUL never appears in an accepted file (see _lines)
+
+
+def _words(texts: list[bytes]) -> np.ndarray:
+    """Texts of at most 4 bytes as uint32 words (padded with `_PAD`), in machine byte order."""
+    return np.frombuffer(b"".join(t.ljust(4, bytes([_PAD])) for t in texts), dtype=np.uint32).copy()
+
+
+# A cell is four 4-byte words: [sign, d0, ".", d1] [d2 d3 d4 d5] [d6 d7 d8 "e"] [±, exponent].
+_LEAD = np.concatenate([_words([(sign + f"{d // 10}.{d % 10}").encode() for d in range(100)]) for sign in ("", "-")])
+_MIDDLE = _words([f"{d:04d}".encode() for d in range(10000)])
+_TAIL = _words([f"{d:03d}e".encode() for d in range(1000)])
 _SCALE_ZERO = 330
+_EXPONENT = _words([f"{'-' if e < 0 else '+'}{abs(e):02d}".encode() for e in range(-_SCALE_ZERO, _SCALE_ZERO + 1)])
 with np.errstate(over="ignore"):
     _SCALE = 10.0 ** np.arange(-_SCALE_ZERO, _SCALE_ZERO + 1, dtype=float)  # 10^k, looked up
 
 
-def _cells_of(values: np.ndarray) -> np.ndarray:
-    """Fixed-width ASCII cells (uint8, shape (n, 16)) of ``values`` with 9 significant digits,
-    padded with spaces that `_format_block` removes afterwards: ``-1.23456789e+ 03`` becomes
-    ``-1.23456789e+03``; NaN is an empty cell. All in numpy, without a Python loop per number
-    (which would cost ~0.25 µs per number, 17 per row)."""
+_SLICE = 16384  # numbers formatted at a time: every pass over them then stays in the CPU cache
+
+
+def _number_cells(values: np.ndarray) -> np.ndarray:
+    """Fixed-width ASCII cells (uint8, shape ``values.shape + (16,)``) with 9 significant digits,
+    padded with `_PAD` bytes that are removed before sending (``-1.23456789e+03``); NaN is an
+    empty cell. All in numpy, by table look-up of groups of digits: a Python loop per number
+    would cost ~0.25 µs each, 17 numbers a row and model."""
     v = np.asarray(values, dtype=float)
-    n = v.size
-    out = np.full((n, _CELL), _SPACE, dtype=np.uint8)
-    a = np.abs(v)
-    regular = np.isfinite(v) & ((a >= 1e-290) | (a == 0.0))
-    a = np.where(regular, a, 0.0)
+    flat = v.reshape(-1)
+    words = np.empty((flat.size, 4), dtype=np.uint32)
+    irregular = []
+    for start in range(0, flat.size, _SLICE):
+        part = flat[start:start + _SLICE]
+        bad = _words_of(part, words[start:start + _SLICE])
+        if bad.size:
+            irregular.append(bad + start)
+    out = words.view(np.uint8).reshape(v.shape + (_CELL,))
+    if irregular:
+        cells = out.reshape(-1, _CELL)
+        for k in np.concatenate(irregular):
+            cells[k] = _PAD  # NaN stays an empty cell
+            if not np.isnan(flat[k]):  # infinities and the tiniest numbers
+                text = ("%.9g" % flat[k]).encode("ascii")
+                cells[k, :len(text)] = np.frombuffer(text, dtype=np.uint8)
+    return out
+
+
+def _words_of(flat: np.ndarray, words: np.ndarray) -> np.ndarray:
+    """Fill `words` (n × 4 uint32) with the cells of `flat`; returns the indices of the values
+    this fast path does not write (NaN, infinities, |x| < 1e-290)."""
+    a = np.abs(flat)
+    regular = np.isfinite(flat) & ((a >= 1e-290) | (a == 0.0))
+    a[~regular] = 0.0
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         e = np.floor(np.log10(np.where(a > 0.0, a, 1.0))).astype(np.int64)
-        m = np.rint(a * np.take(_SCALE, _SCALE_ZERO + 8 - e))
+        m = np.rint(a * _SCALE[_SCALE_ZERO + 8 - e])
         # log10 rounded the wrong way, or the rounding carried into a tenth digit: redo those
-        fix = np.flatnonzero((m >= 1e9) | ((m < 1e8) & (a > 0.0)))
-        for _ in range(2):
+        for _ in range(3):
+            fix = np.flatnonzero((m >= 1e9) | ((m < 1e8) & (a > 0.0)))
             if not fix.size:
                 break
             e[fix] += np.where(m[fix] >= 1e9, 1, -1)
-            m[fix] = np.rint(a[fix] * np.take(_SCALE, _SCALE_ZERO + 8 - e[fix]))
-            fix = fix[(m[fix] >= 1e9) | ((m[fix] < 1e8) & (a[fix] > 0.0))]
-    m = m.astype(np.int64)
-    out[:, 0] = np.where(v < 0.0, ord("-"), _SPACE)
-    out[:, 1:11] = ord(".")
-    for place, column in zip(_POW10, (1, 3, 4, 5, 6, 7, 8, 9, 10)):
-        out[:, column] = (m // place) % 10 + _ZERO
-    out[:, 11] = ord("e")
-    out[:, 12] = np.where(e < 0, ord("-"), ord("+"))
-    ae = np.abs(e)
-    out[:, 13] = np.where(ae >= 100, ae // 100 + _ZERO, _SPACE)
-    out[:, 14] = (ae // 10) % 10 + _ZERO
-    out[:, 15] = ae % 10 + _ZERO
-    irregular = np.flatnonzero(~regular)
-    if irregular.size:
-        out[irregular] = _SPACE  # NaN stays an empty cell
-    for k in irregular[~np.isnan(v[irregular])]:  # infinities and the tiniest numbers
-        text = ("%.9g" % v[k]).encode("ascii")
-        out[k, _CELL - len(text):] = np.frombuffer(text, dtype=np.uint8)
-    return out
+            m[fix] = np.rint(a[fix] * _SCALE[_SCALE_ZERO + 8 - e[fix]])
+    m = m.astype(np.uint32)  # nine digits fit below 2^32
+    high = m // 1000
+    lead = high // 10000
+    words[:, 0] = _LEAD[lead + 100 * (np.signbit(flat) & (flat != 0.0))]
+    words[:, 1] = _MIDDLE[high - lead * 10000]
+    words[:, 2] = _TAIL[m - high * 1000]
+    words[:, 3] = _EXPONENT[e + _SCALE_ZERO]
+    return np.flatnonzero(~regular)
+
+
+_ROW_SLICE = 2048  # rows assembled at a time (a few MB: the byte block stays in the CPU cache)
+
+
+def _format_rows(texts: list[bytes], columns: np.ndarray) -> bytes:
+    """``text,cell,cell,...\n`` for every row: `texts` are the rows as read (bytes, without their
+    line end), `columns` the numbers (rows × columns), 9 significant digits, NaN left empty."""
+    return b"".join(_format_slice(texts[i:i + _ROW_SLICE], columns[i:i + _ROW_SLICE])
+                    for i in range(0, len(texts), _ROW_SLICE))
+
+
+def _format_slice(texts: list[bytes], columns: np.ndarray) -> bytes:
+    n = len(texts)
+    if not n:
+        return b""
+    lengths = np.fromiter(map(len, texts), dtype=np.int64, count=n)
+    widest = int(lengths.max())
+    k = columns.shape[1]
+    block = np.empty((n, widest + k * (_CELL + 1) + 1), dtype=np.uint8)
+    # the original text, left-aligned in its row
+    text_part = block[:, :widest]
+    text_part.fill(_PAD)
+    text_part[np.arange(widest) < lengths[:, None]] = np.frombuffer(b"".join(texts), dtype=np.uint8)
+    cells = block[:, widest:widest + k * (_CELL + 1)].reshape(n, k, _CELL + 1)
+    cells[:, :, 0] = ord(",")
+    cells[:, :, 1:] = _number_cells(columns)
+    block[:, -1] = ord("\n")
+    return block.tobytes().translate(None, bytes([_PAD]))
 
 
 def _format_block(columns: list[np.ndarray]) -> list[str]:
     """Rows of 9-significant-digit cells, comma-separated (NaN left empty)."""
     if not columns or not len(columns[0]):
         return []
-    n, k = len(columns[0]), len(columns)
-    block = np.empty((n, k * (_CELL + 1)), dtype=np.uint8)
-    for j, col in enumerate(columns):
-        start = j * (_CELL + 1)
-        block[:, start:start + _CELL] = _cells_of(col)
-        block[:, start + _CELL] = ord(",")
-    block[:, -1] = ord("\n")
-    return block.tobytes().decode("ascii").replace(" ", "").split("\n")[:-1]
+    text = _format_rows([b""] * len(columns[0]), np.stack([np.asarray(c, dtype=float) for c in columns], axis=1))
+    return [row[1:] for row in text.decode("ascii").split("\n")[:-1]]
 
 
-def stream(handle, models: list[tuple[int, model.Cosmology]]) -> Iterator[str]:
-    """Second pass: the file with the columns added (text chunks). Call `check` first."""
+def stream(handle, models: list[tuple[int, model.Cosmology]]) -> Iterator[bytes]:
+    """Second pass: the file with the columns added (chunks of UTF-8 bytes). Call `check` first.
+    Each chunk costs one `model.evaluate` per model; the last line says how many rows were
+    written (``# complete: N rows``), so a copy cut short on the way is plain to see."""
     start, z_index, width = _header(handle)
     for number, text in _lines(handle):
         if number == start:
-            yield text + "," + ",".join(column_names(models)) + "\n"
+            yield (text + "," + ",".join(column_names(models)) + "\n").encode("utf-8")
             break
-        yield text + "\n"
+        yield (text + "\n").encode("utf-8")
+    keys = list(model.QUANTITIES)
+    written = 0
     for lines, z in _rows(handle, start, z_index, width):
         content = ~np.isnan(z)
-        columns = []
-        with np.errstate(all="ignore"):
-            for _, cosmo in models:
-                values = model.evaluate(cosmo, z[content])
-                columns.extend(np.asarray(values[key], dtype=float) for key in model.QUANTITIES)
-        formatted = _format_block(columns) if content.any() else []
-        if content.all():
-            yield "\n".join(f"{text},{cells}" for (_, text), cells in zip(lines, formatted)) + "\n"
+        texts = [text.encode("utf-8") for _, text in lines]
+        if not content.any():
+            yield b"".join(t + b"\n" for t in texts)
             continue
-        out, rows = io.StringIO(), iter(formatted)
-        for (_, text), keep in zip(lines, content.tolist()):
-            out.write(f"{text},{next(rows)}\n" if keep else text + "\n")
-        yield out.getvalue()
+        columns = np.empty((int(content.sum()), len(models) * len(keys)))
+        with np.errstate(all="ignore"):
+            for i, (_, cosmo) in enumerate(models):
+                values = model.evaluate(cosmo, z[content])
+                for j, key in enumerate(keys):
+                    columns[:, i * len(keys) + j] = values[key]
+        written += columns.shape[0]
+        if content.all():
+            yield _format_rows(texts, columns)
+            continue
+        rows = iter(_format_rows([t for t, keep in zip(texts, content) if keep], columns).split(b"\n"))
+        yield b"".join((next(rows) if keep else text) + b"\n" for text, keep in zip(texts, content.tolist()))
+    yield f"# complete: {written} rows\n".encode("ascii")
 
 
 # ----------------------------------------------------------------------------- the route

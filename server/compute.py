@@ -44,15 +44,6 @@ class Resolved:
         return codec.model_cache_key(self.state)
 
 
-def _build(kwargs: dict, label: str = "") -> model.Cosmology:
-    kwargs = dict(kwargs)
-    if "omega_de" in kwargs:
-        omega_de = kwargs.pop("omega_de")
-        kwargs.pop("omega_k", None)
-        return model.Cosmology.from_dark_energy(omega_de=omega_de, label=label, **kwargs)
-    return model.Cosmology(label=label, **kwargs)
-
-
 def resolve(state: codec.ModelState) -> Resolved:
     """Validate one slot with the model. A value the link could not read is its own problem and
     comes first; the model's `ParameterError` names its field, `NoBigBangError` the slot."""
@@ -63,11 +54,20 @@ def resolve(state: codec.ModelState) -> Resolved:
     try:
         cosmo = cosmology_for(codec.model_cache_key(state))  # the label is the state's, not needed here
     except model.ParameterError as err:
+        if err.field == "omega_k" and state.omega_de is not None:
+            # Ω_k was derived from the Ω_de the card gives: name the key that was sent
+            key = f"{prefix}.ode"
+            return Resolved(state, None, codec.Problem(key, (
+                f"{key}: Ω_de = {codec.format_number(state.omega_de)} makes the derived curvature "
+                f"Ω_k = 1 − Ω_m − Ω_de − Ω_r = {_value_text(err.value)}, outside {err.expected}; "
+                "choose Ω_de (or Ω_m) so that Ω_k stays in that range")))
         key = f"{prefix}.{_URL_KEY_OF.get(err.field, err.field)}"
         return Resolved(state, None, codec.Problem(key, f"{key}: {_value_text(err.value)} is not accepted; "
                                                         f"expected {err.expected}"))
     except model.NoBigBangError as err:
-        return Resolved(state, None, codec.Problem(prefix, f"{prefix}: no big bang: {err}"))
+        text = str(err)
+        return Resolved(state, None, codec.Problem(prefix, f"{prefix}: {text}" if text.startswith("no big bang")
+                                                   else f"{prefix}: no big bang: {text}"))
     except Exception as err:  # noqa: BLE001 - any other failure is this model's problem, not a 500
         return Resolved(state, None, codec.Problem(prefix, f"{prefix}: this model cannot be built ({err!r})"))
     return Resolved(state, cosmo, None)
@@ -93,7 +93,7 @@ def cosmology_for(key: str) -> model.Cosmology:
     Cosmology is frozen and building one (its tables) is the costly part of validating a card;
     every update validates every card, so the few in use are kept."""
     query = "&".join(f"m1.{pair}" for pair in key.split("&") if pair)
-    return _build(codec.decode(query or "m1.label=").models[0].physical())
+    return codec.decode(query or "m1.label=").models[0].to_cosmology()
 
 
 def round_significant(values, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:

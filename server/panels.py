@@ -18,35 +18,17 @@ import numpy as np
 import model
 from layouts.palette import COMPONENT_COLOURS, slot_colour
 from layouts.text import number, with_unit
-from server import codec, compute
+from server import codec, compute, fields, state as states, tabs
 from server.cache import fetch_many
 from server.presets import PRESETS
 
 __all__ = ["Comparison", "compare", "cards", "card_status", "panel", "panel_csv", "parameter_sets",
-           "page_options", "TAB_TITLES", "SYMBOLS", "unit_of", "measurements", "scores", "FIT_LABELS",
-           "DEFAULT_BOUNDS", "MAP_POINTS", "FitRequestError", "fit_request", "fit_report", "state_with_fit",
+           "page_options", "TAB_TITLES", "unit_of", "measurements", "scores", "FIT_LABELS",
+           "DEFAULT_BOUNDS", "MAP_POINTS", "FitRequestError", "fit_request", "fit_report",
            "map_request", "store_upload"]
 
-TAB_TITLES = {
-    "budget": "Energy budget",
-    "distances": "Distances",
-    "time": "Time",
-    "volume": "Volume",
-    "acoustic": "Acoustic scales",
-    "table": "Table",
-    "data": "Data",
-}
+TAB_TITLES = tabs.TAB_TITLES
 
-# Short symbols for evaluate() keys (column headers, hover text).
-SYMBOLS = {
-    "scale_factor": "a", "hubble_parameter": "H", "hubble_distance_at_z": "D_H",
-    "comoving_distance": "D_C", "transverse_comoving_distance": "D_M",
-    "angular_diameter_distance": "D_A", "luminosity_distance": "D_L", "distance_modulus": "μ",
-    "lookback_time": "t_L", "age": "t", "comoving_volume": "V_C",
-    "comoving_volume_element": "dV_C/dz/dΩ", "angular_scale": "kpc per arcsec",
-    "volume_averaged_distance": "D_V", "particle_horizon": "χ_particle", "event_horizon": "χ_event",
-    "deceleration_parameter": "q",
-}
 COMPONENT_NAMES = {
     "photons": "photons", "neutrinos": "neutrinos", "baryons": "baryons",
     "cold_dark_matter": "cold dark matter", "dark_energy": "dark energy", "curvature": "curvature",
@@ -60,12 +42,11 @@ FIELD_HINTS = {
 
 
 def unit_of(key: str) -> str:
-    unit = model.QUANTITIES.get(key, ("", ""))[0] if hasattr(model, "QUANTITIES") else ""
-    return "" if unit in ("", "1") else unit
+    return model.QUANTITIES[key].unit
 
 
 def _axis_title(key: str) -> str:
-    description = model.QUANTITIES.get(key, ("", key))[1] if hasattr(model, "QUANTITIES") else key
+    description = model.QUANTITIES[key].description
     unit = unit_of(key)
     return f"{description} [{unit}]" if unit else f"{description} [dimensionless]"
 
@@ -211,8 +192,8 @@ def _z_axis(c: Comparison) -> dict:
 
 def _quantity_figure(c: Comparison, key: str, title: str | None = None, kind: str = "ratio",
                      y_log: bool = False) -> dict:
-    spec = {"title": title or model.QUANTITIES.get(key, ("", key))[1], **_z_axis(c),
-            "y_title": _axis_title(key), "y_hover": SYMBOLS.get(key, key), "unit": unit_of(key), "y_log": y_log,
+    spec = {"title": title or model.QUANTITIES[key].description, **_z_axis(c),
+            "y_title": _axis_title(key), "y_hover": model.QUANTITIES[key].symbol, "unit": unit_of(key), "y_log": y_log,
             "series": _curve_series(c, lambda cv: cv["at"][key]),
             "strip": _strip(c, lambda cv: cv["at"][key], kind=kind,
                             unit=unit_of(key) if kind == "difference" else "")}
@@ -300,7 +281,7 @@ def _distances(c: Comparison) -> dict:
     choice = c.state.view.distance
     key = codec.DISTANCE_CHOICES[choice]
     controls = [{"key": "dist", "kind": "dropdown", "label": "distance", "value": choice,
-                 "options": [{"label": model.QUANTITIES.get(v, ("", v))[1], "value": k}
+                 "options": [{"label": model.QUANTITIES[v].description, "value": k}
                              for k, v in codec.DISTANCE_CHOICES.items()]}]
     blocks = [
         _quantity_figure(c, key),
@@ -440,7 +421,7 @@ def table_rows(c: Comparison) -> tuple[list[str], list[list[str]]]:
                 if e is not c.reference:
                     ratio = np.where(ref != 0, v / np.where(ref != 0, ref, 1.0), np.nan)
                     columns.append([number(x, 6) for x in ratio.tolist()])
-            name = f"{SYMBOLS.get(key, key)} [{unit or 'dimensionless'}]"
+            name = f"{model.QUANTITIES[key].symbol} [{unit or 'dimensionless'}]"
             rows.extend([name, z_texts[i], *(col[i] for col in columns)] for i in range(len(z_texts)))
     return header, rows
 
@@ -453,7 +434,7 @@ def _table(c: Comparison) -> dict:
         _view_control(c, "z", "redshifts (comma-separated)", ",".join(map(codec.format_number, view.redshifts)),
                       f"up to {codec.MAX_TABLE_REDSHIFTS} values, {codec.Z_MIN:g} ≤ z ≤ {codec.Z_MAX:g}"),
         {"key": "iq", "kind": "dropdown", "label": "inverse look-up: quantity", "value": quantity,
-         "options": [{"label": f"{model.QUANTITIES.get(q, ('', q))[1]} [{unit_of(q) or 'dimensionless'}]",
+         "options": [{"label": f"{model.QUANTITIES[q].description} [{unit_of(q) or 'dimensionless'}]",
                       "value": q} for q in codec.invertible()]},
         _view_control(c, "iv", f"value [{unit or 'dimensionless'}]", codec.format_number(view.inverse_value),
                       "0 ≤ value"),
@@ -463,7 +444,7 @@ def _table(c: Comparison) -> dict:
                                                  for e in c.entries])
     inverse_rows = [[e.name, number(z, 6)] for e, z in zip(c.entries, found)]
     blocks = [
-        {"kind": "table", "title": (f"Redshift where {model.QUANTITIES.get(quantity, ('', quantity))[1]} = "
+        {"kind": "table", "title": (f"Redshift where {model.QUANTITIES[quantity].description} = "
                                     f"{with_unit(view.inverse_value, unit)}"),
          "header": ["model", "z [dimensionless] (– where none)"], "rows": inverse_rows},
         {"kind": "table", "title": "Every quantity at the link's redshifts", "header": header, "rows": rows,
@@ -659,16 +640,12 @@ def _data(c: Comparison) -> dict:
     return {"controls": controls, "blocks": blocks + _failures_note(c)}
 
 
-_BUILDERS = {"budget": _budget, "distances": _distances, "time": _time, "volume": _volume,
-             "acoustic": _acoustic, "table": _table, "data": _data}
-
-
 def panel(c: Comparison, tab: str | None = None) -> dict:
     tab = tab or c.state.view.tab
     if not c.entries:
         return {"blocks": [{"kind": "text", "text": "No model can be drawn: fix the errors on the cards."}]
                 + _failures_note(c)}
-    return _BUILDERS[tab](c)
+    return tabs.tab(tab).builder(c)
 
 
 # ----------------------------------------------------------------------------- downloads
@@ -733,7 +710,6 @@ FIT_LABELS = {"h0": "H₀", "omega_m": "Ω_m", "omega_k": "Ω_k", "w0": "w₀", 
 DEFAULT_BOUNDS = {"h0": (50.0, 90.0), "omega_m": (0.05, 0.7), "omega_k": (-0.3, 0.3), "w0": (-2.0, -0.3),
                   "wa": (-3.0, 2.0), "r_d": (120.0, 180.0), "offset": (-2.0, 2.0)}
 MAP_POINTS = 60
-_LINK_NAME = {v: k for k, v in codec.FIT_KEYS.items()}
 
 
 class FitRequestError(ValueError):
@@ -781,12 +757,10 @@ def store_upload(state: codec.LinkState, measurements, covariance=None, name: st
     from server import data_store
 
     stored = data_store.store(measurements, covariance, name)
-    view = dataclasses.replace(state.view, data=stored.hash, tab="data",
-                               invalid=tuple((k, v) for k, v in state.view.invalid if k != "data"))
     d = stored.measurements
     what = SYNTHETIC_NOTE if _synthetic(stored) else (stored.name or "your table")
     message = (f"Stored {len(d)} measurements from {what} as data={stored.hash}; the link now carries it.")
-    return "?" + codec.encode(dataclasses.replace(state, view=view)), message
+    return "?" + codec.encode(states.with_data(state, stored.hash)), message
 
 
 def parse_bounds(free: list[str], bounds: dict) -> tuple[tuple[str, float, float], ...]:
@@ -804,9 +778,9 @@ def parse_bounds(free: list[str], bounds: dict) -> tuple[tuple[str, float, float
             if not text:
                 ends.append(DEFAULT_BOUNDS[name][i])
                 continue
-            value = codec._parse_number(text)  # the link's own number rule: plain decimals, finite
+            value = fields.parse_number(text)  # the link's own number rule: plain decimals, finite
             label = f"{FIT_LABELS[name]} {'lower' if end == 'low' else 'upper'} bound"
-            if isinstance(value, str):
+            if isinstance(value, fields.Refusal):
                 raise FitRequestError(f"{label}: {value}; expected a number, {_range_text(name)}")
             if not low_ok <= value <= high_ok:
                 raise FitRequestError(f"{label}: {codec.format_number(value)} is out of range; expected "
@@ -882,28 +856,6 @@ def fit_report(fit: dict) -> dict:
             "header": ["parameter [unit]", "best fit", "1σ error", "bounds", "on a bound"], "rows": rows,
             "correlation_header": [""] + symbols, "correlation_rows": correlation_rows,
             "summary": summary, "warnings": warnings}
-
-
-def state_with_fit(state: codec.LinkState, fit: dict) -> codec.LinkState:
-    """The link with the fit loaded into the lowest free slot (and the ``fit`` note naming it);
-    raises `FitRequestError` when every slot is taken or the start model is gone."""
-    free_slots = [n for n in range(1, codec.MAX_SLOTS + 1) if n not in state.slots()]
-    if not free_slots:
-        raise FitRequestError(f"load: all {codec.MAX_SLOTS} slots are taken; remove a model first")
-    source = next((m for m in state.models if m.slot == fit["slot"]), None)
-    if source is None:
-        raise FitRequestError(f"load: the start model m{fit['slot']} is no longer in the link; fit again")
-    cosmological = {k: float(compute.round_significant(v, 7)) for k, v in fit["cosmology"].items()
-                    if k in fit["names"]}
-    changes = dict(cosmological)
-    if "omega_k" in changes:
-        changes["omega_de"] = None  # the fitted curvature is the input now
-    label = f"{source.name} best fit ({', '.join(_LINK_NAME[n] for n in fit['names'])})"[:codec.MAX_LABEL_LENGTH]
-    new = dataclasses.replace(source, slot=free_slots[0], label=label, invalid=(), **changes)
-    note = (new.slot, tuple(n for n in codec.FIT_KEYS if codec.FIT_KEYS[n] in fit["names"]))
-    view = dataclasses.replace(state.view, fit=note)
-    models = tuple(sorted(state.models + (new,), key=lambda m: m.slot))
-    return codec.decode(codec.encode(codec.LinkState(models=models, view=view)))
 
 
 def map_request(state: codec.LinkState, slot, x_name, y_name, bounds: dict, fit: dict | None) -> dict:

@@ -1,4 +1,4 @@
-"""Parameter sets a model card can start from.
+"""Parameter sets a model card can start from (plain data; `server.state.apply_preset` applies one).
 
 Planck 2018 columns: Planck Collaboration 2020, "Planck 2018 results. VI. Cosmological
 parameters", A&A 641, A6, Table 2 (columns TT,TE,EE+lowE+lensing and +BAO). Their base model
@@ -12,19 +12,25 @@ Einstein–de Sitter (Ω_m = 1), empty (Ω_k = 1), de Sitter (Ω_Λ = 1), open m
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
-from server.codec import ModelState
-
-__all__ = ["Preset", "PRESETS", "apply_preset"]
+__all__ = ["Preset", "PRESETS", "ALIASES", "preset"]
 
 
 @dataclass(frozen=True)
 class Preset:
+    """One parameter set: `key` (the value the card's list sends), `name` (the card's new label),
+    `citation` (shown beside the name in the list) and the Cosmology inputs."""
+
     key: str
     name: str
     citation: str
     values: dict
+
+    @property
+    def option_label(self) -> str:
+        """The entry in the card's "start from…" list: name and full citation."""
+        return f"{self.name} — {self.citation}"
 
 
 def _planck(h0: float, omega_m: float, omega_b_h2: float) -> dict:
@@ -39,20 +45,24 @@ def _textbook(omega_m: float, omega_k: float) -> dict:
                 w0=-1.0, wa=0.0, t_cmb=0.0, m_nu=())
 
 
-_PLANCK = "Planck Collaboration 2020, A&A 641, A6, Table 2"
+_PLANCK_LENS = "TT,TE,EE+lowE+lensing column of Planck Collaboration 2020, A&A 641, A6, Table 2"
+_PLANCK_BAO = "TT,TE,EE+lowE+lensing+BAO column of Planck Collaboration 2020, A&A 641, A6, Table 2"
 _TEXT = "closed-form limit, radiation off (T_CMB = 0)"
 
 PRESETS = {p.key: p for p in (
-    Preset("planck18", "Planck 2018 TT,TE,EE+lowE+lensing", _PLANCK, _planck(67.36, 0.3153, 0.02237)),
-    Preset("planck18bao", "Planck 2018 TT,TE,EE+lowE+lensing+BAO", _PLANCK, _planck(67.66, 0.3111, 0.02242)),
+    Preset("cmb2018-lens", "Planck 2018 (CMB + lensing)", _PLANCK_LENS, _planck(67.36, 0.3153, 0.02237)),
+    Preset("cmb2018-lens-bao", "Planck 2018 (CMB + lensing + BAO)", _PLANCK_BAO, _planck(67.66, 0.3111, 0.02242)),
     Preset("eds", "Einstein–de Sitter (Ω_m = 1)", _TEXT, _textbook(1.0, 0.0)),
     Preset("empty", "Empty universe (Ω_k = 1)", _TEXT, _textbook(0.0, 1.0)),
     Preset("desitter", "de Sitter (Ω_Λ = 1)", _TEXT, _textbook(0.0, 0.0)),
     Preset("open", "Open, matter only (Ω_m = 0.3, Ω_k = 0.7)", _TEXT, _textbook(0.3, 0.7)),
 )}
 
+# Keys an earlier release sent for the same sets: a page still open from before an upgrade keeps
+# working, and the card then shows the set under its current key.
+ALIASES = {"planck18": "cmb2018-lens", "planck18bao": "cmb2018-lens-bao"}
 
-def apply_preset(state: ModelState, key: str) -> ModelState:
-    """`state` with every physical input replaced by the preset's; the label becomes its name."""
-    preset = PRESETS[key]
-    return replace(ModelState(slot=state.slot), label=preset.name, **preset.values)
+
+def preset(key: str) -> Preset:
+    """The preset `key`, read through `ALIASES` (KeyError for an unknown key)."""
+    return PRESETS[ALIASES.get(key, key)]

@@ -18,6 +18,8 @@ from helpers import (EPOCH_RTOL, REFERENCE_SETTINGS, RTOL, RTOL_NU, Mismatches, 
                      event_horizon_is_finite, make_pair, massive_models, massless_models, relerr,
                      usable)
 
+pytestmark = pytest.mark.slow  # backed by the 30-digit mpmath reference (tests/model/reference.py)
+
 # Hand-picked models (our own choices, covering each case the issue names).
 MASSLESS = {
     "flat-lcdm-radiation": dict(h0=67.4, omega_m=0.315, omega_b=0.049, m_nu=()),

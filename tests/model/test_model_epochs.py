@@ -14,6 +14,8 @@ import model
 import reference as ref
 from helpers import Mismatches
 
+pytestmark = pytest.mark.slow  # backed by the 30-digit mpmath reference (tests/model/reference.py)
+
 H0 = 70.0
 T_H = float(ref.MPC_M / (H0 * 1000) / ref.GYR_S)
 TIME_RTOL = 1e-6      # future times are integrals of the same kind as evaluate()'s ages

@@ -13,6 +13,8 @@ import pytest
 import model
 import reference as ref
 
+pytestmark = pytest.mark.slow  # backed by the 30-digit mpmath reference (tests/model/reference.py)
+
 # Planck 2018 VI Table 2 (values as quoted in CONVENTIONS.md)
 COLUMNS = {
     "TT,TE,EE+lowE+lensing": dict(h0=67.36, omega_m=0.3153, obh2=0.02237, age=13.797, z_eq=3402,

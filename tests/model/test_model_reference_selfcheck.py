@@ -10,6 +10,8 @@ import pytest
 import closed_forms as cf
 import reference as ref
 
+pytestmark = pytest.mark.slow  # backed by the 30-digit mpmath reference (tests/model/reference.py)
+
 TIGHT = mp.mpf("1e-18")   # for pure mpmath closed forms
 FLOAT = 1e-13             # for float closed forms (scipy.special.elliprf)
 

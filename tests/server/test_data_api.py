@@ -161,5 +161,6 @@ def test_fuzzed_uploads_never_give_a_server_error(client, body, covariance):
     payload = strict_json(r)
     if r.status_code == 400:
         assert payload["error"]["message"] and payload["error"]["line"] >= 1 and payload["error"]["column"] >= 1
-    else:
-        assert len(payload["data"]) == codec.DATA_HASH_LENGTH
+    else:  # stored under its content hash, and it reads back as the same rows
+        assert payload["data"] == data_store.content_hash(body, covariance)
+        assert payload["rows"] == len(data_store.load(payload["data"]).measurements)

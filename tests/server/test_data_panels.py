@@ -12,6 +12,7 @@ import model
 from layouts.figures import chi2_map_figure, figure
 from layouts.text import number
 from server import codec, data_store, panels
+from server import state as state_module
 
 HOSTILE = "<img src=x onerror=alert(1)>"
 TABLE = ("z,kind,value,error,label\n"
@@ -94,7 +95,7 @@ def test_fit_report_load_into_slot_and_aic(ctx):
     report = panels.fit_report(fit)
     assert report["rows"][0][1] == number(direct.values[0], 6) and report["rows"][0][0] == "Ω_m [dimensionless]"
     assert any(number(direct.chi2_min, 6) in line for line in report["summary"])
-    new = panels.state_with_fit(state, fit)
+    new = state_module.with_fit(state, fit)
     assert new.view.fit == (3, ("om", "w0")) and "fit=3:om,w0" in codec.encode(new)
     m3 = next(m for m in new.models if m.slot == 3)
     assert abs(m3.omega_m - direct.best["omega_m"]) < 1e-6 * max(1.0, abs(direct.best["omega_m"]))
@@ -118,8 +119,8 @@ def test_fit_without_data_or_with_a_full_page(ctx):
         panels.fit_request(codec.decode("m1.h0=70"), 1, ["omega_m"], {})
     full = codec.decode(codec.encode(link()) + "&m3.w0=-0.8&m4.w0=-0.7")
     fit = panels.fit_request(full, 1, ["omega_m"], {})
-    with pytest.raises(panels.FitRequestError, match="slots are taken"):
-        panels.state_with_fit(full, fit)
+    with pytest.raises(state_module.TransitionError, match="slots are taken"):
+        state_module.with_fit(full, fit)
 
 
 def test_map_and_its_contours(ctx):

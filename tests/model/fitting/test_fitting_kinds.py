@@ -54,7 +54,7 @@ def test_units_titles_and_quantities():
         assert kind.unit != "1"  # dimensionless is spelled ""
         assert kind.quantity in QUANTITIES
         if not kind.nuisance:  # a direct comparison is in the quantity's own unit
-            assert kind.unit == QUANTITIES[kind.quantity][0], key
+            assert kind.unit == QUANTITIES[kind.quantity].unit, key
 
 
 def test_a_kind_with_an_unknown_quantity_or_nuisance_is_refused():
