@@ -286,7 +286,7 @@ def chi2_map_figure(spec: dict) -> dict:
                      "contours": {"start": level, "end": level, "size": 1.0, "coloring": "none",
                                   "showlabels": False},
                      "line": {"color": "#0072B2" if i == 0 else "#D55E00", "width": 2, "dash": dashes[i % 3]},
-                     "name": f"{probability:.0%} (Δχ² = {level:.2f})", "showlegend": True})
+                     "name": f"{100 * probability:.1f} % (Δχ² = {level:.2f})", "showlegend": True})
     if spec.get("best") is not None:
         data.append({"type": "scatter", "mode": "markers", "x": [spec["best"][0]], "y": [spec["best"][1]],
                      "marker": {"symbol": "x", "size": 10, "color": "#000000"},

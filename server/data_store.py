@@ -23,8 +23,8 @@ Errors, drawn as a tree::
 from __future__ import annotations
 
 import hashlib
+import importlib.resources
 from dataclasses import dataclass
-from pathlib import Path
 
 from flask import current_app
 
@@ -35,7 +35,8 @@ from server.cache import LRU, cache
 __all__ = ["DataError", "DataNotFound", "DataRejected", "StoredData", "store", "load", "content_hash",
            "demo_bytes", "DEMO_PATH", "DEFAULT_TIMEOUT", "MAX_COVARIANCE_BYTES", "LIMITS"]
 
-DEMO_PATH = Path(__file__).resolve().parent.parent / "data" / "demo_synthetic.csv"
+# package data (pyproject's package-data), so an installed copy and the container have it
+DEMO_PATH = importlib.resources.files("server").joinpath("demo", "demo_synthetic.csv")
 DEFAULT_TIMEOUT = 30 * 24 * 3600  # a month: long enough for a link mailed round a group (judgement)
 # A covariance of a few hundred rows is tens of kB; 4 MiB (about 500 x 500 entries of 16
 # characters) keeps one stored entry small for the shared cache (judgement, no source).
@@ -166,5 +167,5 @@ def load(digest: str) -> StoredData:
 
 
 def demo_bytes() -> bytes:
-    """The synthetic demo table shipped in ``data/`` (made by scripts/make_demo_data.py)."""
+    """The synthetic demo table shipped in ``server/demo/`` (made by scripts/make_demo_data.py)."""
     return DEMO_PATH.read_bytes()

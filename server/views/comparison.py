@@ -9,6 +9,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+import model
+
 from layouts.specs import Number, Series
 from server import codec, compute, data_store
 from server.cache import fetch_many
@@ -16,17 +18,8 @@ from server.cache import fetch_many
 __all__ = ["Entry", "Comparison", "compare", "num", "key_of", "measurements", "scores", "is_synthetic", "kind_rows",
            "data_points", "residual_points", "KIND_TITLES", "DISTANCE_KIND", "SYNTHETIC_NOTE"]
 
-# How each measurement kind is named on screen, and its unit as shown.
-KIND_TITLES = {
-    "distance_modulus": ("distance modulus μ", "mag"),
-    "luminosity_distance": ("luminosity distance D_L", "Mpc"),
-    "angular_diameter_distance": ("angular-diameter distance D_A", "Mpc"),
-    "comoving_distance": ("comoving distance D_C", "Mpc"),
-    "dm_over_rd": ("D_M / r_d", ""),
-    "dh_over_rd": ("D_H / r_d", ""),
-    "dv_over_rd": ("D_V / r_d", ""),
-    "hubble_parameter": ("expansion rate H(z)", "km s⁻¹ Mpc⁻¹"),
-}
+# How each measurement kind is named on screen, and its unit as shown (the model's kind registry).
+KIND_TITLES = {key: (kind.title, kind.unit) for key, kind in model.MEASUREMENT_KINDS.items()}
 # The distances panel's distance choice -> the measurement kind drawn on it (D_M has none).
 DISTANCE_KIND = {"dl": "luminosity_distance", "da": "angular_diameter_distance", "dc": "comoving_distance"}
 SYNTHETIC_NOTE = "synthetic demo data (made by scripts/make_demo_data.py from an invented model; not real measurements)"

@@ -133,8 +133,10 @@ def test_map_and_its_contours(ctx):
                             np.linspace(50, 90, 60))
     np.testing.assert_allclose(spec["delta_chi2"], direct.delta_chi2, rtol=1e-9, atol=1e-9)
     contours = [t for t in chi2_map_figure(spec)["data"] if t["type"] == "contour"]
-    # 68 % and 95 % joint regions of two parameters (common practice, no source)
-    assert [t["contours"]["start"] for t in contours] == [2.30, 6.18]
+    # 68.3 % and 95.4 % joint regions of two parameters: Δχ² = 2.30 and 6.18 (Press et al.,
+    # Numerical Recipes, 3rd ed. 2007, section 15.6)
+    assert [t["contours"]["start"] for t in contours] == pytest.approx([2.30, 6.18], abs=0.005)
+    assert [t["name"].split(" (")[0] for t in contours] == ["68.3 %", "95.4 %"]
     with pytest.raises(data_tools.FitRequestError, match="two different"):
         data_tools.map_request(state, 1, "w0", "w0", {}, None)
 
