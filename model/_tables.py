@@ -6,7 +6,10 @@ is advanced by 3-point Gauss–Legendre quadrature (error O(h⁷)); values and t
 derivatives (the integrands) at the nodes define cubic Hermite interpolants whose error
 is below 1e-9 relative (1e-8 within the first step of today, where values are tiny).
 Beyond the top node the integrands are power laws in a to high
-precision, and the tails are added in closed form.
+precision, and the tails are added in closed form. Where that grid cannot follow the
+integrands (a loitering minimum of E², or E(z) varying fast near today) nested refinement
+levels are added (see :class:`Tables`), which keeps 1e-7 for every accepted model at
+z ≥ 1e-4; ordinary models need none.
 
 Columns (integrals in units of the Hubble distance c/H₀ or the Hubble time 1/H₀):
 

@@ -141,6 +141,18 @@ def test_any_accepted_model_holds_1e7_near_today(kw):
             assert _rel(out[key][i], want[mp.mpf(z)][key]) < RTOL, (key, z)
 
 
+@pytest.mark.slow
+@pytest.mark.parametrize("name", list(FAST_MODELS))
+def test_below_z_1e4_the_absolute_error_is_below_1e11_hubble_distances(name):
+    kw = FAST_MODELS[name]
+    c, r = Cosmology(**kw), ref.RefCosmology(**kw)
+    zs = [1e-7, 1e-6, 1e-5, -1e-5]
+    out = evaluate(c, np.array(zs))["comoving_distance"]
+    for i, z in enumerate(zs):
+        err = abs(mp.mpf(float(out[i])) - r.comoving_distance(z)) / r.hubble_distance
+        assert err < 1e-11, (z, float(err))
+
+
 # ------------------------------------------------------------------------ 3. no big bang
 def test_a_dip_below_zero_narrower_than_the_grid_is_a_bounce_at_the_right_redshift():
     kw = dict(h0=70.0, omega_m=0.3, t_cmb=0.0, m_nu=())
@@ -479,3 +491,7 @@ def test_neutrino_density_convention_of_the_readme():
     c = Cosmology(h0=70.0, omega_m=0.4, m_nu=(1.0, 1.0, 1.0), n_eff=3.044)
     assert c.omega_nu * c.h**2 == pytest.approx(3.0 / float(divisor), rel=1e-6)
     assert float(divisor) / 93.14 == pytest.approx(1 - 0.0047, abs=5e-4)
+    # N_eff = 3: the purely thermal value, 3/3.044 times the divisor above
+    c3 = Cosmology(h0=70.0, omega_m=0.4, m_nu=(1.0, 1.0, 1.0), n_eff=3.0)
+    assert 3.0 / (c3.omega_nu * c3.h**2) == pytest.approx(float(divisor * 3.044 / 3), rel=1e-6)
+    assert float(divisor * 3.044 / 3) == pytest.approx(94.06, abs=0.01)
