@@ -233,8 +233,8 @@ def check_big_bang(cosmo, u, e2, slope=None, u_top=None):
 
     A model whose H² vanishes in the past would have turned around (bounced) at that
     redshift instead of starting from a big bang; the distance integrals do not exist for
-    it. ``u`` (ln(1+z)), ``e2`` and ``slope`` (dE²/du) are the samples of the model's
-    integration grid, which ends at ``u_top``. Three checks, each exact rather than a
+    it. ``u`` (ln(1+z), ascending), ``e2`` and ``slope`` (dE²/du) are the samples of the
+    model's integration grid, which ends at ``u_top``. Three checks, each exact rather than a
     matter of sampling density:
 
     1. E² ≤ 0 at a sample;
@@ -246,8 +246,6 @@ def check_big_bang(cosmo, u, e2, slope=None, u_top=None):
 
     The error carries the lowest such redshift.
     """
-    order = np.argsort(u)
-    u, e2 = u[order], e2[order]
     past = u >= 0.0
     u, e2 = u[past], e2[past]
     candidates = []
@@ -262,7 +260,7 @@ def check_big_bang(cosmo, u, e2, slope=None, u_top=None):
         except ValueError:
             candidates.append(float(u[k]))
     if slope is not None:
-        sl = slope[order][past]
+        sl = slope[past]
         for um, e2m, _ in minima_of_e2(cosmo, u, sl):
             if not e2m > 0.0:
                 k = max(int(np.searchsorted(u, um)) - 1, 0)

@@ -185,6 +185,8 @@ def scale_factor_history(cosmo, a_end=10.0, n=400, a_start=1e-6):
     tab = tables(cosmo)
     u = -np.log(a_up)
     on_grid = u >= U_MIN
+    if fut.u_turn is not None and fut.a_max > 1.0 and fut.u_turn >= U_MIN:
+        on_grid &= u >= tab.u[fut.k_good]  # nearer the turnaround: cosmic_time integrates in s
     t_up = np.empty(m)
     t_up[on_grid] = cosmo.hubble_time * tab.interpolate("age", tab.locate(u[on_grid]))
     t_up[~on_grid] = [cosmic_time(cosmo, a) for a in a_up[~on_grid]]

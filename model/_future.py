@@ -2,7 +2,7 @@
 
 The fate is decided at any scale factor, not up to a fixed one. Past the integration grid
 (a > 110) E² is followed in the log domain, ln ρ_i for each component, on a grid in
-v = ln a that is uniform (1/64) up to v = 64 and then grows by 1 % per step, up to the
+v = ln a that is uniform (1/16) up to v = 64 and then grows by 2 % per step, up to the
 point where one component dominates for good: it outweighs the sum of all others ten
 times over and its logarithmic slope d ln ρ/d ln a is at least theirs (radiation −4,
 matter −3, massive neutrinos between, curvature −2, dark energy −3 (1 + w(a)) with
@@ -13,7 +13,8 @@ E² ≤ 0 or by a minimum of E² found as a root of dE²/d ln a (which catches a
 narrower than the sampling), and refined with Brent's method.
 
 Cosmic and conformal time from today to the end are composite Gauss–Legendre sums: the
-tables up to the grid's edge, then 8-point panels of 1/32 in ln a, and up to a turnaround
+tables up to the grid's edge, then 8-point panels of 1/32 in ln a (1/2 towards a = ∞,
+followed by the power-law tail of the dominant term), and up to a turnaround
 the substitution a = a_max − s² with panels in s that shrink geometrically towards s = 0,
 where the integrand 2s/(a^p E) is regular. No QUADPACK call, so no library warning.
 """
@@ -53,10 +54,12 @@ def _log_terms(cosmo, v):
     d = cosmo._derived
     rows_l, rows_s, rows_k = [], [], []
 
+    zero = np.zeros(v.shape)
+
     def add(log_mag, sign, slope):
-        rows_l.append(np.broadcast_to(log_mag, v.shape))
-        rows_s.append(np.broadcast_to(float(sign), v.shape))
-        rows_k.append(np.broadcast_to(slope, v.shape))
+        rows_l.append(zero + log_mag)
+        rows_s.append(float(sign))
+        rows_k.append(zero + slope)
 
     if d["omega_r"] > 0.0:
         add(math.log(d["omega_r"]) - 4.0 * v, 1.0, -4.0)
@@ -78,7 +81,7 @@ def _log_terms(cosmo, v):
         grow = cosmo.wa * (1.0 - np.exp(np.minimum(v, 700.0))) if cosmo.wa != 0.0 else 0.0
         ln_de = math.log(abs(cosmo.omega_de)) - 3.0 * (1.0 + cosmo.w0 + cosmo.wa) * v - 3.0 * grow
         add(ln_de, math.copysign(1.0, cosmo.omega_de), -3.0 * (1.0 + cosmo.w0 + grow))
-    return np.array(rows_l), np.array(rows_s), np.array(rows_k)
+    return np.array(rows_l), np.array(rows_s)[:, None], np.array(rows_k)
 
 
 def _scaled(cosmo, v):
@@ -90,9 +93,8 @@ def _scaled(cosmo, v):
     return w.sum(axis=0), (w * slopes).sum(axis=0), top
 
 
-def _dominance_index(cosmo, v):
+def _dominance_index(cosmo, v, logs, slopes):
     """First index of ``v`` from which one term dominates E² for good (module docstring)."""
-    logs, _, slopes = _log_terms(cosmo, v)
     if logs.shape[0] == 1:
         return 0, 0
     lead = np.argmax(logs, axis=0)
@@ -113,19 +115,32 @@ def _dominance_index(cosmo, v):
 
 def _scan_grid():
     v0 = -U_MIN
-    uniform = np.arange(v0, _V_UNIFORM, 1.0 / 64.0)
-    n_geo = int(math.ceil(math.log(_V_LIMIT / _V_UNIFORM) / math.log(1.01)))
-    return np.concatenate([uniform, _V_UNIFORM * 1.01 ** np.arange(n_geo + 1)])
+    n_geo = int(math.ceil(math.log(_V_LIMIT / _V_UNIFORM) / math.log(1.02)))
+    # in pieces, so that a model dominated early is not followed further
+    return (np.arange(v0, 8.0, 1.0 / 16.0), np.arange(8.0, _V_UNIFORM, 1.0 / 16.0),
+            _V_UNIFORM * 1.02 ** np.arange(n_geo + 1))
+
+
+_SCAN = _scan_grid()
 
 
 def _first_root_beyond_grid(cosmo):
     """(v of the first root of E² past the grid or None, index of the dominant term at the
     end, ln a from which it dominates (inf if never within the limit))."""
-    v = _scan_grid()
-    k_dom, lead = _dominance_index(cosmo, v)
-    end = v.size if k_dom is None else k_dom + 1
-    v = v[:end]
-    e2s, de2s, _ = _scaled(cosmo, v)
+    parts = []
+    k_dom = None
+    for piece in _SCAN:
+        logs, signs, slopes = _log_terms(cosmo, piece)
+        k_dom, lead = _dominance_index(cosmo, piece, logs, slopes)
+        end = piece.size if k_dom is None else k_dom + 1
+        parts.append((piece[:end], logs[:, :end], slopes[:, :end]))
+        if k_dom is not None:
+            break
+    v = np.concatenate([p[0] for p in parts])
+    logs = np.concatenate([p[1] for p in parts], axis=1)
+    slopes = np.concatenate([p[2] for p in parts], axis=1)
+    w = signs * np.exp(logs - logs.max(axis=0))
+    e2s, de2s = w.sum(axis=0), (w * slopes).sum(axis=0)
     bad = ~(e2s > 0.0)
     candidates = []
     if bad.any():
@@ -334,7 +349,7 @@ class _Future:
     def _to_far(cosmo, v0, v_end, lead_slope):
         """∫ da/(a E) and ∫ da/(a² E) from a = e^{v0} to ∞: composite Gauss–Legendre in ln a
         to ``v_end``, then the power-law tail of the dominant term, E ∝ a^{slope/2}."""
-        n = max(1, int(math.ceil((v_end - v0) * 8.0)))
+        n = max(1, int(math.ceil((v_end - v0) * 2.0)))
         v, w = _gl(v0, v_end, n)
         e2s, _, top = _scaled(cosmo, v)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):

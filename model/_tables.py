@@ -48,6 +48,11 @@ _FIRST_PANEL_TOL = 2e-8
 # A minimum of E² narrower than this many coarse steps (in ln(1+z)) gets refinement levels.
 _NARROW = 32.0
 _FROM_TOP = ("age", "eta", "rs")  # columns integrated from z = ∞ down (they fall with u)
+# Order of [nodes, Gauss–Legendre points] along u: node k, its panel's three points, node k + 1…
+_ORDER = np.empty(_N + 3 * (_N - 1), dtype=np.intp)
+_ORDER[0::4] = np.arange(_N)
+for _j in range(3):
+    _ORDER[1 + _j::4] = _N + 3 * np.arange(_N - 1) + _j
 
 
 def _gl_points(lo, step, n):
@@ -84,7 +89,8 @@ class Tables:
             e2 = budget_total(comp)
             slope_e2 = 2.0 * e2 + comp["pressure_weight"]
             e = np.where(e2 > 0.0, np.sqrt(np.where(e2 > 0, e2, 1.0)), np.nan)
-        check_big_bang(cosmo, all_u, e2, slope_e2, U_MAX)
+        order = _ORDER
+        check_big_bang(cosmo, all_u[order], e2[order], slope_e2[order], U_MAX)
         n = _N
         ex = np.exp(all_u)
         integrands = self._integrands(ex, e)
@@ -105,7 +111,6 @@ class Tables:
         self.e2 = e2[:n]
         sources = {"chi": "d_chi", "tau": "d_tau", "age": "d_tau", "eta": "d_chi", "rs": "d_rs"}
         inc = {name: steps(integrands[src]) for name, src in sources.items()}
-        order = np.argsort(all_u)
         self.minima = minima_of_e2(cosmo, all_u[order], slope_e2[order])
         self.levels = self._build_levels(cosmo, inc, sources)
 

@@ -247,6 +247,20 @@ def test_a_shallow_dip_below_zero_in_the_near_future_is_a_recollapse_without_war
     root = mp.findroot(lambda a: r.a4e2(a), (mp.mpf("1.5"), a_min), solver="anderson")
     assert e["fate"] == "recollapse"
     assert e["a_max"] == pytest.approx(float(root), rel=1e-9)
+    assert e["t_max_expansion"] == pytest.approx(float(_time_to_turnaround(r, root)), rel=1e-7)
+
+
+def _time_to_turnaround(r, a_max):
+    """t(a_max) = ∫₀^{a_max} da/(aE) by mpmath, the last stretch in s = √(a_max − a), where
+    the integrand 2s a/√(a⁴E²) is regular, cut at s_1 2^{-k} for tanh-sinh."""
+    def g(s):
+        a = a_max - s * s
+        q = r.a4e2(a)
+        return 2 * s * a / mp.sqrt(q) if q > 0 else mp.mpf(0)
+
+    s1 = mp.sqrt(a_max - 1)
+    pts = sorted([s1 * mp.mpf(2) ** (-k) for k in range(40)] + [mp.mpf(0)])
+    return r.hubble_time * (r._integral(r._time_integrand, 0, 1) + mp.quad(g, pts))
 
 
 @pytest.mark.parametrize("kw, fate", [
@@ -263,8 +277,11 @@ def test_fate_from_the_dominant_term_as_a_goes_to_infinity(kw, fate):
     e = epochs(Cosmology(**full))
     assert e["fate"] == fate
     if fate == "recollapse":
-        a_max = _first_future_root(ref.RefCosmology(**full), mp.mpf(10))
+        r = ref.RefCosmology(**full)
+        a_max = _first_future_root(r, mp.mpf(10))
         assert e["a_max"] == pytest.approx(float(a_max), rel=1e-9)
+        assert e["t_max_expansion"] == pytest.approx(float(_time_to_turnaround(r, a_max)),
+                                                     rel=1e-7)
 
 
 # ---------------------------------------------------------------- 5. just before a turnaround
@@ -282,6 +299,16 @@ def test_every_quantity_is_finite_just_before_the_turnaround(a):
     assert cosmic_time(c, a) == pytest.approx((theta - math.sin(theta)) * c.hubble_time, rel=1e-8)
     assert math.isnan(float(evaluate(c, 1.0 / 2.01 - 1.0)["comoving_distance"]))
     assert math.isnan(cosmic_time(c, 2.01))
+
+
+def test_scale_factor_history_through_the_turnaround():
+    # the same cycloid, expanding branch and its mirror t = 2 t_max − t(a)
+    c = Cosmology(h0=70.0, omega_m=2.0, omega_k=-1.0, t_cmb=0.0)
+    h = model.scale_factor_history(c, a_end=10.0, n=400)
+    rising = np.arange(h["a"].size) < int(np.argmax(h["a"])) + 1
+    theta = np.arccos(1.0 - h["a"][rising])
+    np.testing.assert_allclose(h["t"][rising], (theta - np.sin(theta)) * c.hubble_time,
+                               rtol=1e-8)
 
 
 # ------------------------------------------------------------ 6. inverse look-ups, closed models
