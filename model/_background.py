@@ -56,20 +56,21 @@ def components(cosmo, z):
     return components_x(cosmo, 1.0 + np.asarray(z, dtype=float))
 
 
-def components_x(cosmo, x):
+def components_x(cosmo, x, nu=None):
     """Each component's density over the critical density today, at x = 1 + z = 1/a.
 
     Returns a dict with photons, neutrinos_massless, neutrinos_massive, baryons,
     cold_dark_matter, dark_energy and curvature (the last is Ω_k (1+z)², not a density),
     and ``pressure_weight``: Σ (1 + 3 w_i) ρ_i / ρ_crit,0 over the real components, so that
-    q = pressure_weight / (2 E²) (Friedmann's acceleration equation).
+    q = pressure_weight / (2 E²) (Friedmann's acceleration equation). ``nu``: the
+    :func:`neutrino_terms` at ``x`` when the caller has them already.
     """
     d = cosmo._derived
     x = np.asarray(x, dtype=float)
     x2 = x * x
     x3 = x2 * x
     x4 = x2 * x2
-    nu_total, nu_weighted, _, _ = neutrino_terms(cosmo, x)
+    nu_total, nu_weighted, _, _ = neutrino_terms(cosmo, x) if nu is None else nu
     de = cosmo.omega_de * dark_energy_factor(cosmo, x)
     w_de = cosmo.w0 + cosmo.wa * (1.0 - 1.0 / x)
     out = {
@@ -220,10 +221,14 @@ def exp_sum_roots(logs, signs, expo, t_max=math.inf):
     return sorted(set(roots))
 
 
-def _raise_no_big_bang(z_turn):
+def _raise_no_big_bang(u_turn):
+    """NoBigBangError for the bounce at u = ln(1+z); z = inf beyond float range (the message
+    then gives 1+z as a power of e)."""
+    z_turn = math.expm1(u_turn) if u_turn < 709.0 else math.inf
+    where = f"z = {z_turn:.6g}" if math.isfinite(z_turn) else f"1 + z = e^{u_turn:.6g}"
     raise NoBigBangError(
         z_turn,
-        f"no big bang: going back in time, H² would fall to zero at z = {z_turn:.6g}, where "
+        f"no big bang: going back in time, H² would fall to zero at {where}, where "
         "the expansion turns around instead of starting hot (dark energy or a closed "
         "geometry outweighs matter and radiation there); lower Ω_de or raise Ω_m")
 
@@ -244,7 +249,8 @@ def check_big_bang(cosmo, u, e2, slope=None, u_top=None):
        (:func:`power_law_terms`, :func:`exp_sum_roots`): which power wins as a → 0 and
        whether the sum changes sign before it does.
 
-    The error carries the lowest such redshift.
+    The error carries the lowest such redshift (inf if beyond float range, 1 + z > e^709,
+    as when two nearly equal powers of x compete).
     """
     past = u >= 0.0
     u, e2 = u[past], e2[past]
@@ -279,4 +285,4 @@ def check_big_bang(cosmo, u, e2, slope=None, u_top=None):
             if roots:
                 candidates.append(u_top + roots[0])
     if candidates:
-        _raise_no_big_bang(math.expm1(min(candidates)))
+        _raise_no_big_bang(min(candidates))

@@ -122,6 +122,8 @@ def _scan_grid():
 
 
 _SCAN = _scan_grid()
+_V_FAR = 50.0  # the far-future integrals run in ln a to at least here, then a power-law tail
+_FAR_V, _FAR_W = None, None
 
 
 def _first_root_beyond_grid(cosmo):
@@ -129,9 +131,18 @@ def _first_root_beyond_grid(cosmo):
     end, ln a from which it dominates (inf if never within the limit))."""
     parts = []
     k_dom = None
-    for piece in _SCAN:
-        logs, signs, slopes = _log_terms(cosmo, piece)
+    far_v, far_w = _far_nodes()
+    far = None
+    for j, piece in enumerate(_SCAN):
+        if j == 0:  # one evaluation for the first piece and the far-future integrals
+            logs, signs, slopes = _log_terms(cosmo, np.concatenate([piece, far_v, [_V_FAR]]))
+            far = (far_v, far_w, logs[:, piece.size:], signs)
+            logs, slopes = logs[:, :piece.size], slopes[:, :piece.size]
+        else:
+            logs, signs, slopes = _log_terms(cosmo, piece)
         k_dom, lead = _dominance_index(cosmo, piece, logs, slopes)
+        if k_dom is not None:
+            lead_slope = float(slopes[lead, k_dom])
         end = piece.size if k_dom is None else k_dom + 1
         parts.append((piece[:end], logs[:, :end], slopes[:, :end]))
         if k_dom is not None:
@@ -154,15 +165,26 @@ def _first_root_beyond_grid(cosmo):
         if not float(_scaled(cosmo, vm)[0][0]) > 0.0:
             candidates.append((v[k], vm))
     v_dom = math.inf if k_dom is None else float(v[-1])
+    if k_dom is None:
+        lead_slope = float(slopes[lead, -1])
     if not candidates:
-        return None, lead, v_dom
+        return None, lead, v_dom, lead_slope, far
     lo, hi = min(candidates)
     f = lambda x: float(_scaled(cosmo, x)[0][0])
     try:
         root = optimize.brentq(f, lo, hi, xtol=1e-15 * max(1.0, hi), rtol=1e-15)
     except ValueError:
         root = hi
-    return root, lead, v_dom
+    return root, lead, v_dom, lead_slope, far
+
+
+def _far_nodes():
+    """8-point Gauss–Legendre nodes and weights on [ln 110, 50] in ln a, panels of 1/2."""
+    global _FAR_V, _FAR_W
+    if _FAR_V is None:
+        v0 = -U_MIN
+        _FAR_V, _FAR_W = _gl(v0, _V_FAR, int(math.ceil((_V_FAR - v0) * 2.0)))
+    return _FAR_V, _FAR_W
 
 
 def _gl(lo, hi, n_panels):
@@ -238,13 +260,13 @@ class _Future:
         u_turn = self._turnaround_on_grid(cosmo, tab)
         lead = None
         if u_turn is None:
-            v_root, lead, v_dom = _first_root_beyond_grid(cosmo)
+            v_root, lead, v_dom, lead_slope, far = _first_root_beyond_grid(cosmo)
             if v_root is not None:
                 u_turn = -v_root
         if u_turn is not None:
             self._set_recollapse(cosmo, tab, u_turn)
             return
-        self._set_open_ended(cosmo, tab, lead, v_dom)
+        self._set_open_ended(cosmo, tab, lead, v_dom, lead_slope, far)
 
     # -- recollapse ----------------------------------------------------------------------
     @staticmethod
@@ -318,11 +340,10 @@ class _Future:
         return chi, tau
 
     # -- eternal expansion or a big rip ---------------------------------------------------
-    def _set_open_ended(self, cosmo, tab, lead, v_dom):
-        logs, signs, slopes = _log_terms(cosmo, np.array([max(v_dom, 0.0) if math.isfinite(v_dom)
-                                                            else _V_LIMIT]))
-        de_row = logs.shape[0] - 1 if cosmo.omega_de != 0.0 else -1
-        lead_slope = float(slopes[lead, 0])  # d ln E²/d ln a of the dominant term
+    def _set_open_ended(self, cosmo, tab, lead, v_dom, lead_slope, far):
+        # lead_slope: d ln E²/d ln a of the dominant term where it starts to dominate
+        n_rows = far[2].shape[0]
+        de_row = n_rows - 1 if cosmo.omega_de != 0.0 else -1
         phantom = lead == de_row and cosmo.omega_de > 0.0 and (
             cosmo.wa > 0.0 or (cosmo.wa == 0.0 and cosmo.w0 < -1.0))
         # ∫ da/(a² E) converges iff E² falls slower than a⁻² (acceleration for ever).
@@ -330,10 +351,10 @@ class _Future:
         if not (accelerating or phantom):
             return
         v0 = -U_MIN
-        v_end = max(50.0, (v_dom if math.isfinite(v_dom) else _V_LIMIT) + 10.0)
+        v_end = max(_V_FAR, (v_dom if math.isfinite(v_dom) else _V_LIMIT) + 10.0)
         if v_end > 5000.0:
             v_end = 5000.0
-        dtau, deta = self._to_far(cosmo, v0, v_end, lead_slope)
+        dtau, deta = self._to_far(cosmo, v0, v_end, lead_slope, far if v_end == _V_FAR else None)
         if accelerating:
             self.deta_to_end = -tab.values["chi"][0] + deta
             inc = tab.increments["chi"][:_N_FUTURE]
@@ -346,18 +367,26 @@ class _Future:
             self.dtau_to_end = -tab.values["tau"][0] + dtau
 
     @staticmethod
-    def _to_far(cosmo, v0, v_end, lead_slope):
+    def _to_far(cosmo, v0, v_end, lead_slope, far=None):
         """∫ da/(a E) and ∫ da/(a² E) from a = e^{v0} to ∞: composite Gauss–Legendre in ln a
-        to ``v_end``, then the power-law tail of the dominant term, E ∝ a^{slope/2}."""
-        n = max(1, int(math.ceil((v_end - v0) * 2.0)))
-        v, w = _gl(v0, v_end, n)
-        e2s, _, top = _scaled(cosmo, v)
+        to ``v_end``, then the power-law tail of the dominant term, E ∝ a^{slope/2}.
+        ``far``: the log terms at the nodes of [v0, 50] and at 50, already computed."""
+        if far is not None:
+            v, w, logs, signs = far
+            top_all = logs.max(axis=0)
+            e2_all = (signs * np.exp(logs - top_all)).sum(axis=0)
+            e2s, top = e2_all[:-1], top_all[:-1]
+            e2e, tope = e2_all[-1:], top_all[-1:]
+        else:
+            n = max(1, int(math.ceil((v_end - v0) * 2.0)))
+            v, w = _gl(v0, v_end, n)
+            e2s, _, top = _scaled(cosmo, v)
+            e2e, _, tope = _scaled(cosmo, np.array([v_end]))
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             log_inv_e = np.where(e2s > 0.0, -0.5 * (top + np.log(np.where(e2s > 0, e2s, 1.0))),
                                  -np.inf)
             dtau = float(np.sum(w * np.exp(log_inv_e)))
             deta = float(np.sum(w * np.exp(log_inv_e - v)))
-        e2e, _, tope = _scaled(cosmo, np.array([v_end]))
         log_inv_e_end = -0.5 * (float(tope[0]) + math.log(float(e2e[0])))
         half = 0.5 * lead_slope
         # beyond v_end: ∫ e^{-k v}/E dv with 1/E = e^{log_inv_e_end − half (v − v_end)}

@@ -47,6 +47,7 @@ _MAX_LEVELS = 30
 _FIRST_PANEL_TOL = 2e-8
 # A minimum of E² narrower than this many coarse steps (in ln(1+z)) gets refinement levels.
 _NARROW = 32.0
+_PROBE_DELTA = 2e-3  # spacing in u of the finite difference for f‴ near today
 _FROM_TOP = ("age", "eta", "rs")  # columns integrated from z = ∞ down (they fall with u)
 # Order of [nodes, Gauss–Legendre points] along u: node k, its panel's three points, node k + 1…
 _ORDER = np.empty(_N + 3 * (_N - 1), dtype=np.intp)
@@ -81,22 +82,27 @@ class Tables:
         u[_N_FUTURE] = 0.0
         self.u = u
         gl_u = _gl_points(U_MIN, STEP, _N - 1)
-        all_u = np.concatenate([u, gl_u])
+        # the grid's nodes, its Gauss–Legendre points, and four probes of the integrands
+        # near today (see _refinement_targets), all in one evaluation of the budget
+        all_u = np.concatenate([u, gl_u, _PROBE_DELTA * np.array([-2.0, -1.0, 1.0, 2.0])])
         d = cosmo._derived
         self._omega_b, self._omega_gamma = cosmo.omega_b, d["omega_gamma"]
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-            comp = components_x(cosmo, np.exp(all_u))
+            nu = neutrino_terms(cosmo, np.exp(all_u)) if d["y0"].size else None
+            comp = components_x(cosmo, np.exp(all_u), nu)
             e2 = budget_total(comp)
             slope_e2 = 2.0 * e2 + comp["pressure_weight"]
             e = np.where(e2 > 0.0, np.sqrt(np.where(e2 > 0, e2, 1.0)), np.nan)
         order = _ORDER
-        check_big_bang(cosmo, all_u[order], e2[order], slope_e2[order], U_MAX)
+        u_sorted, slope_sorted = all_u[order], slope_e2[order]
+        check_big_bang(cosmo, u_sorted, e2[order], slope_sorted, U_MAX)
         n = _N
         ex = np.exp(all_u)
         integrands = self._integrands(ex, e)
+        probe = {key: v[-4:] for key, v in integrands.items()}
 
         def steps(f):
-            return 0.5 * STEP * (f[n:].reshape(n - 1, 3) @ _GL_W)
+            return 0.5 * STEP * (f[n:n + 3 * (n - 1)].reshape(n - 1, 3) @ _GL_W)
 
         # Power-law tails beyond U_MAX: E ∝ e^{s u} with s = 1 + q at the top.
         q_top = float(comp["pressure_weight"][n - 1] / (2.0 * e2[n - 1]))
@@ -111,8 +117,8 @@ class Tables:
         self.e2 = e2[:n]
         sources = {"chi": "d_chi", "tau": "d_tau", "age": "d_tau", "eta": "d_chi", "rs": "d_rs"}
         inc = {name: steps(integrands[src]) for name, src in sources.items()}
-        self.minima = minima_of_e2(cosmo, all_u[order], slope_e2[order])
-        self.levels = self._build_levels(cosmo, inc, sources)
+        self.minima = minima_of_e2(cosmo, u_sorted, slope_sorted)
+        self.levels = self._build_levels(cosmo, inc, sources, probe)
 
         def from_today(steps_):
             out = np.empty(n)
@@ -136,7 +142,7 @@ class Tables:
         self.slopes = {name: (-1.0 if name in _FROM_TOP else 1.0) * integrands[src][:n]
                        for name, src in sources.items()}
         if d["y0"].size:
-            f, f_p, g, dg = neutrino_terms(cosmo, np.exp(u))
+            f, f_p, g, dg = (v[:n] for v in nu)
             # y ∝ e^{-u}: d/du = −d/d ln y
             self.values["nu"], self.slopes["nu"] = f, -g
             self.values["nu_p"], self.slopes["nu_p"] = f_p, -(2.0 * g - dg)
@@ -162,7 +168,7 @@ class Tables:
             e = np.where(e2 > 0.0, np.sqrt(np.where(e2 > 0, e2, 1.0)), np.nan)
         return self._integrands(np.exp(u), e)
 
-    def _refinement_targets(self, cosmo):
+    def _refinement_targets(self, cosmo, probe):
         """(centre u_c, finest step wanted) for each place the uniform grid cannot follow."""
         targets = []
         for um, e2m, kappa in self.minima:
@@ -171,8 +177,7 @@ class Tables:
                 if width < _NARROW * STEP:
                     targets.append((um, width / 32.0))
         # Near today: Hermite error s³ |f‴(0)| / 192 relative (f(0) = 1 for dχ/du, dτ/du).
-        delta = 2e-3
-        probe = self._sample(cosmo, delta * np.array([-2.0, -1.0, 1.0, 2.0]))
+        delta = _PROBE_DELTA
         worst = 0.0
         for key in ("d_chi", "d_tau"):
             f = probe[key]
@@ -186,10 +191,10 @@ class Tables:
             targets.append((0.0, s_want))
         return targets
 
-    def _build_levels(self, cosmo, inc, sources):
+    def _build_levels(self, cosmo, inc, sources, probe):
         """The refinement levels (dicts), with the coarse increments ``inc`` corrected."""
         levels = []
-        for centre, s_want in self._refinement_targets(cosmo):
+        for centre, s_want in self._refinement_targets(cosmo, probe):
             n_lev = min(_MAX_LEVELS, max(0, math.ceil(math.log2(STEP / s_want))))
             chain = []
             lo_parent, step_parent, n_parent = U_MIN, STEP, _N - 1
