@@ -65,18 +65,23 @@ def z_drag_fit(omega_b_h2, omega_m_h2):
             * (1.0 + b1 * omega_b_h2**b2))
 
 
-# The box inside which the calibrated r_drag formula is used. Aubourg et al. 2015 (PRD 92,
-# 123516, §II and eq. 16) calibrate it on CAMB for the standard radiation content,
-# N_eff = 3.046 at T_CMB = 2.7255 K, over the parameter range the Planck data allow, with
-# Σm_ν up to 0.6 eV; the exact edges below are our reading of that range (recalled from the
-# paper, not copied from a table in it): common practice, no source for the edges.
+# The calibrated range of the r_drag formula. Aubourg et al. 2015 (PRD 92, 123516, §II and
+# eq. 16) calibrate it on CAMB for the standard radiation content, N_eff = 3.046 at
+# T_CMB = 2.7255 K, over the parameter range the Planck data allow, with Σm_ν up to 0.6 eV;
+# the exact edges below are our reading of that range (recalled from the paper, not copied
+# from a table in it): common practice, no source for the edges.
 R_DRAG_FIT_RANGE = {
     "n_eff": (2.946, 3.146),          # N_eff = 3.046 ± 0.1 (the fit has no N_eff dependence)
     "t_cmb": (2.7155, 2.7355),        # K, T_CMB = 2.7255 ± 0.01 K
+    "sum_m_nu": (0.0, 0.6),           # eV
     "omega_b_h2": (0.018, 0.026),
     "omega_cb_h2": (0.09, 0.16),
-    "sum_m_nu": (0.0, 0.6),           # eV
 }
+# Outside these the formula ignores physics the model has (radiation content, masses), and
+# r_drag becomes the integrated r_s(z_drag); outside the density edges only a caution is
+# given, since there the formula still follows ω_b and ω_cb smoothly and the integral at the
+# fitted z_drag is no better (it inherits the 1–4 % error of that fit).
+_R_DRAG_SWITCH = ("n_eff", "t_cmb", "sum_m_nu")
 
 
 def r_drag_fit(omega_cb_h2, omega_b_h2, omega_nu_h2):
@@ -87,18 +92,20 @@ def r_drag_fit(omega_cb_h2, omega_b_h2, omega_nu_h2):
     the range allowed by Planck; it does not depend on N_eff or T_CMB otherwise.
 
     Calibrated range (see :data:`R_DRAG_FIT_RANGE`): N_eff = 3.046 ± 0.1, T_CMB = 2.7255 ±
-    0.01 K, 0.018 ≤ ω_b ≤ 0.026, 0.09 ≤ ω_cb ≤ 0.16, Σm_ν ≤ 0.6 eV. The paper states the
+    0.01 K, Σm_ν ≤ 0.6 eV, 0.018 ≤ ω_b ≤ 0.026, 0.09 ≤ ω_cb ≤ 0.16. The paper states the
     standard radiation content and the Planck-allowed range; the numerical edges are our
-    reading of it. Outside, the formula drifts from the integrated sound horizon (e.g. 20 %
-    at N_eff = 10, 6.5 % at T_CMB = 2 K), and :func:`acoustic_scales` uses r_s(z_drag)
-    instead.
+    reading of it. Outside the radiation and mass edges the formula misses physics the
+    model has (it is 20 % off the integrated sound horizon at N_eff = 10, 6.5 % at
+    T_CMB = 2 K) and :func:`acoustic_scales` uses r_s(z_drag) instead; outside the density
+    edges it only adds a caution.
     """
     return (55.154 * math.exp(-72.3 * (omega_nu_h2 + 0.0006) ** 2)
             / (omega_cb_h2**0.25351 * omega_b_h2**0.12807))
 
 
 def r_drag_fit_outside(cosmo):
-    """The inputs of ``cosmo`` outside :data:`R_DRAG_FIT_RANGE`, as short texts (empty if none)."""
+    """The inputs of ``cosmo`` outside :data:`R_DRAG_FIT_RANGE`, as (key, short text) pairs
+    (empty if none)."""
     h2 = cosmo.h**2
     d = cosmo._derived
     have = {"n_eff": cosmo.n_eff, "t_cmb": cosmo.t_cmb, "omega_b_h2": cosmo.omega_b * h2,
@@ -110,7 +117,7 @@ def r_drag_fit_outside(cosmo):
         v = have[key]
         if not lo <= v <= hi:
             sym, unit = names[key]
-            out.append(f"{sym} = {v:.4g}{unit} (calibrated {lo:g} to {hi:g}{unit})")
+            out.append((key, f"{sym} = {v:.4g}{unit} (calibrated {lo:g} to {hi:g}{unit})"))
     return out
 
 
@@ -124,10 +131,11 @@ def acoustic_scales(cosmo):
         ``d_m_star`` = D_M(z*) [Mpc], ``theta_star`` = r*/D_M(z*) [rad]; ``z_drag``
         (Eisenstein & Hu 1998 fit); ``r_drag`` [Mpc], the model's r_d (used by the BAO
         χ²); ``r_drag_method``: ``"fit"`` when ``r_drag`` is the calibrated formula of
-        Aubourg et al. 2015 (eq. 16), ``"integrated"`` when it is r_s(z_drag) because the
-        model is outside the formula's calibrated range; ``r_drag_fit`` [Mpc], the formula's
-        value either way; ``r_drag_integrated`` = r_s(z_drag) [Mpc]; ``r_drag_caution``:
-        None inside the calibrated range, else a sentence naming the inputs outside it.
+        Aubourg et al. 2015 (eq. 16), ``"integrated"`` when it is r_s(z_drag) because N_eff,
+        T_CMB or Σm_ν is outside the formula's calibrated range; ``r_drag_fit`` [Mpc], the
+        formula's value either way; ``r_drag_integrated`` = r_s(z_drag) [Mpc];
+        ``r_drag_caution``: None inside the calibrated range, else a sentence naming every
+        input outside it (Ω_b h², Ω_cb h² outside theirs give a caution with the fit kept).
         All numbers NaN (method and caution None) when T_CMB = 0 or Ω_b = 0 (no acoustic
         oscillations).
 
@@ -137,9 +145,12 @@ def acoustic_scales(cosmo):
     :func:`r_drag_fit` with its known accuracy. For the Planck 2018 base model r_drag agrees
     with Planck's Boltzmann-code value to 0.02 %, whereas r_s at the fitted z_drag does not
     (the fitted z_drag is not Planck's). Outside the calibrated range
-    (:data:`R_DRAG_FIT_RANGE`) the formula has no accuracy statement at all, while the
-    integral r_s(z_drag) still carries the model's own physics (N_eff, T_CMB, masses) and
-    only the 1–4 % uncertainty of the fitted z_drag; that is why it is preferred there.
+    (:data:`R_DRAG_FIT_RANGE`) the formula has no accuracy statement at all. Where the
+    radiation content or the masses are outside, the integral r_s(z_drag) still carries the
+    model's own physics and only the 1–4 % uncertainty of the fitted z_drag, so it is
+    preferred; where only ω_b or ω_cb are, the formula still follows them smoothly (it
+    stays within 3 % of r_s(z_drag) for 0.06 ≤ ω_cb ≤ 0.36, against 2.4 % at the Planck
+    model), so it is kept, with the caution, and the fits' Δχ² maps stay consistent.
     """
     d = cosmo._derived
     h2 = cosmo.h**2
@@ -156,19 +167,22 @@ def acoustic_scales(cosmo):
     r_star, r_drag_int = (float(v) for v in sound_horizon(cosmo, [z_star, z_drag]))
     d_m_star = float(evaluate(cosmo, z_star)["transverse_comoving_distance"])
     r_fit = r_drag_fit(d["omega_cb"] * h2, wb, d["omega_nu"] * h2)
-    outside = r_drag_fit_outside(cosmo)
+    found = r_drag_fit_outside(cosmo)
+    switch = any(key in _R_DRAG_SWITCH for key, _ in found)
     caution = None
-    if outside:
-        caution = ("r_drag is the integrated sound horizon at the fitted z_drag: the calibrated "
-                   "formula of Aubourg et al. 2015 does not hold for " + "; ".join(outside))
+    if found:
+        lead = ("r_drag is the integrated sound horizon at the fitted z_drag: "
+                if switch else "r_drag is the calibrated formula used outside its range: ")
+        caution = (lead + "the formula of Aubourg et al. 2015 is calibrated only near "
+                   "the Planck model, not for " + "; ".join(text for _, text in found))
     return {
         "z_star": z_star,
         "r_star": r_star,
         "d_m_star": d_m_star,
         "theta_star": r_star / d_m_star,
         "z_drag": z_drag,
-        "r_drag": r_drag_int if outside else r_fit,
-        "r_drag_method": "integrated" if outside else "fit",
+        "r_drag": r_drag_int if switch else r_fit,
+        "r_drag_method": "integrated" if switch else "fit",
         "r_drag_fit": r_fit,
         "r_drag_integrated": r_drag_int,
         "r_drag_caution": caution,

@@ -485,6 +485,15 @@ def test_r_drag_outside_the_calibration_is_the_integrated_sound_horizon(kw, reas
         float(r.omega_cb) * h2, base["omega_b"] * h2, float(r.omega_nu) * h2), rel=1e-9)
 
 
+def test_r_drag_with_densities_outside_the_calibration_keeps_the_fit_with_a_caution():
+    c = Cosmology(h0=55.0, omega_m=0.2, omega_b=0.0493)
+    a = acoustic_scales(c)
+    assert a["r_drag_method"] == "fit" and "Ω_cb h²" in a["r_drag_caution"]
+    h2 = 0.55**2
+    assert a["r_drag"] == pytest.approx(_r_drag_aubourg(
+        c.omega_cb * h2, 0.0493 * h2, c.omega_nu * h2), rel=1e-12)
+
+
 def test_r_drag_inside_the_calibration_is_the_fit():
     # Planck 2018 VI base model (Table 2): r_drag = 147.09 Mpc, reproduced by eq. 16.
     c = Cosmology(h0=67.36, omega_m=0.3153, omega_b=0.0493, n_eff=3.046)
