@@ -36,6 +36,7 @@ _V_LIMIT = 1.0e6  # ln a beyond which no model is followed (a ≈ e^{1e6}); docu
 _GL8_X, _GL8_W = np.polynomial.legendre.leggauss(8)
 _GL16_X, _GL16_W = np.polynomial.legendre.leggauss(16)
 _TURN_GAP = 0.25
+_A_FAR_TURN = 1e100  # beyond this a_max the times to the turnaround are inf (documented)
 _S_LINEAR = 1e-4  # s/√a_max below which E² is taken linear in a_max − a
 
 
@@ -245,7 +246,8 @@ class _Future:
     """Fate, turnaround and the integrals from today to the end of time (units 1/H₀, c/H₀).
 
     ``fate``, ``a_max`` (None unless recollapse), ``dtau_to_end`` (cosmic time from today
-    to the turnaround or the rip; None for eternal expansion), ``deta_to_end`` (conformal
+    to the turnaround or the rip; None for eternal expansion; inf for a turnaround beyond
+    a = 1e100), ``deta_to_end`` (conformal
     time from today to the turnaround or to a = ∞, inf where it diverges), ``u_turn``
     (ln(1+z) of the turnaround), ``eh_coef`` (Hermite table of the comoving event horizon
     over the grid's future nodes, integrated from a = ∞ inwards, when it is finite).
@@ -300,6 +302,12 @@ class _Future:
         self.a_max = am = math.exp(-u_turn)
         if am <= 1.0:
             self.dtau_to_end = self.deta_to_end = 0.0
+            return
+        if am > _A_FAR_TURN:
+            # a turnaround this far off (a nearly flat model with a tiny negative Ω_k) lies
+            # beyond what floats can integrate to; the times to it are reported as inf
+            self.k_good = 0
+            self.dtau_to_end = self.deta_to_end = math.inf
             return
         if u_turn >= U_MIN:
             # The grid's panels near the turnaround cannot follow 1/E ∝ (a_max − a)^{-1/2}:
