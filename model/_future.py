@@ -299,7 +299,7 @@ class _Future:
     def _set_recollapse(self, cosmo, tab, u_turn):
         self.fate = "recollapse"
         self.u_turn = u_turn
-        self.a_max = am = math.exp(-u_turn)
+        self.a_max = am = math.exp(-u_turn) if -u_turn < 709.0 else math.inf
         if am <= 1.0:
             self.dtau_to_end = self.deta_to_end = 0.0
             return
