@@ -20,6 +20,7 @@ from hypothesis import strategies as st
 import model
 import reference as ref
 from helpers import REFERENCE_SETTINGS
+from test_model_planck2018 import _aubourg_r_drag, _eisenstein_hu_z_drag
 from model import (Cosmology, NoBigBangError, ParameterError, acoustic_scales, cosmic_time,
                    epochs, evaluate, redshift_at)
 
@@ -450,16 +451,8 @@ def test_event_horizon_near_a_big_rip(w0):
 
 
 # ------------------------------------------------------------------------------ 9. r_drag
-def _z_drag_eh98(wb, wm):
-    """Eisenstein & Hu 1998, ApJ 496, 605, eq. 4 (written here from the paper)."""
-    b1 = 0.313 * wm**-0.419 * (1 + 0.607 * wm**0.674)
-    b2 = 0.238 * wm**0.223
-    return 1291 * wm**0.251 / (1 + 0.659 * wm**0.828) * (1 + b1 * wb**b2)
-
-
-def _r_drag_aubourg(wcb, wb, wnu):
-    """Aubourg et al. 2015, PRD 92, 123516, eq. 16 (written here from the paper), Mpc."""
-    return 55.154 * math.exp(-72.3 * (wnu + 0.0006) ** 2) / (wcb**0.25351 * wb**0.12807)
+# the published fit formulas, written from the papers in the Planck test module
+_z_drag_eh98, _r_drag_aubourg = _eisenstein_hu_z_drag, _aubourg_r_drag
 
 
 @pytest.mark.slow
