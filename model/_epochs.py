@@ -93,6 +93,8 @@ def epochs(cosmo):
         ``t_max_expansion`` and ``t_recollapse`` for a recollapse; ``t_big_rip`` for a big
         rip; ``a_future_acceleration`` and ``t_future_acceleration`` when a decelerating
         model will start to accelerate. Times are cosmic time since the big bang, Gyr.
+        The fate is decided at any scale factor (``model._future``); a turnaround beyond
+        a = 1e100 has infinite times, and ``a_max`` is inf beyond float range.
 
     Notes
     -----

@@ -17,6 +17,10 @@ tables up to the grid's edge, then 8-point panels of 1/32 in ln a (1/2 towards a
 followed by the power-law tail of the dominant term), and up to a turnaround
 the substitution a = a_max − s² with panels in s that shrink geometrically towards s = 0,
 where the integrand 2s/(a^p E) is regular. No QUADPACK call, so no library warning.
+
+Bounds: the scan stops at ln a = 1e6; a model with no dominant term by then is classed by
+the term largest there. A turnaround beyond a = 1e100 gets inf for the times to it (and
+a_max = inf beyond float range).
 """
 
 import math
