@@ -73,10 +73,11 @@ def test_an_installed_copy_loads_the_demo_through_the_app(wheel, tmp_path):
                     "-q", str(wheel)], check=True, timeout=240)
     script = (
         "import json, server, model\n"
-        "from server import codec, create_app, data_store, panels\n"
+        "from server import codec, create_app, data_store\n"
+        "from server.views import data_tools\n"
         "app = create_app({'CACHE_TYPE': 'SimpleCache'})\n"
         "with app.server.test_request_context():\n"
-        "    search, message = panels.store_upload(codec.decode(''), data_store.demo_bytes(), None,\n"
+        "    search, message = data_tools.store_upload(codec.decode(''), data_store.demo_bytes(), None,\n"
         "                                          data_store.DEMO_PATH.name)\n"
         "response = app.server.test_client().post('/api/v1/data', data=data_store.demo_bytes(),\n"
         "                                         content_type='text/csv')\n"
