@@ -78,7 +78,7 @@ def components_x(cosmo, x, nu=None):
         "neutrinos_massless": d["omega_nu_massless"] * x4,
         "neutrinos_massive": d["omega_nu1"] * x4 * nu_total,
         "baryons": cosmo.omega_b * x3,
-        "cold_dark_matter": cosmo.omega_cdm * x3,
+        "cold_dark_matter": cosmo.omega_cold_dark_matter * x3,
         "dark_energy": de,
         "curvature": cosmo.omega_k * x2,
     }

@@ -37,7 +37,7 @@ def _first_sign_change(f, u):
 
 
 def cosmic_time(cosmo, a):
-    """Cosmic time since the big bang at a scale factor, on the expanding branch.
+    """Cosmic time t at a scale factor, on the expanding branch.
 
     Parameters
     ----------
@@ -92,7 +92,7 @@ def epochs(cosmo):
         ``fate``: "eternal expansion", "recollapse" or "big rip"; ``a_max``,
         ``t_max_expansion`` and ``t_recollapse`` for a recollapse; ``t_big_rip`` for a big
         rip; ``a_future_acceleration`` and ``t_future_acceleration`` when a decelerating
-        model will start to accelerate. Times are cosmic time since the big bang, Gyr.
+        model will start to accelerate. Times are cosmic time t, Gyr.
         The fate is decided at any scale factor (``model._future``); a turnaround beyond
         a = 1e100 has infinite times, and ``a_max`` is inf beyond float range.
 
@@ -175,7 +175,7 @@ def scale_factor_history(cosmo, a_end=10.0, n=400, a_start=1e-6):
     Returns
     -------
     dict
-        ``t`` (Gyr since the big bang) and ``a``, ordered in time. A recollapsing model
+        ``t`` (cosmic time, Gyr) and ``a``, ordered in time. A recollapsing model
         whose turnaround comes before ``a_end`` continues on the contracting branch,
         t = 2 t_max − t(a), down to ``a_start``; a big rip stops at ``a_end``.
     """

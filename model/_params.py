@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import warnings
 from dataclasses import dataclass, field
 from typing import NamedTuple
 
@@ -101,6 +102,10 @@ def _radiation(h0, t_cmb, n_eff):
     """Ω_γ and Ω of one neutrino species if massless (N_eff/3 of the three), today."""
     omega_gamma = const.photon_density(t_cmb) / const.critical_density(h0)
     return omega_gamma, n_eff / 3.0 * const.NEUTRINO_PER_PHOTON * omega_gamma
+
+
+# Earlier attribute names -> current ones (read with a DeprecationWarning; removed next release).
+_RENAMED = {"omega_cdm": "omega_cold_dark_matter"}
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -322,9 +327,17 @@ class Cosmology:
         return self._derived["omega_cb"]
 
     @property
-    def omega_cdm(self):
-        """Cold dark matter today."""
+    def omega_cold_dark_matter(self):
+        """Ω_c: cold dark matter today, Ω_m − Ω_ν − Ω_b (the component ``cold_dark_matter``)."""
         return self._derived["omega_cb"] - self.omega_b
+
+    def __getattr__(self, name):
+        # names of an earlier release, kept for one release with a warning
+        if name in _RENAMED:
+            warnings.warn(f"Cosmology.{name} is deprecated; use Cosmology.{_RENAMED[name]}",
+                          DeprecationWarning, stacklevel=2)
+            return getattr(self, _RENAMED[name])
+        raise AttributeError(f"'Cosmology' object has no attribute {name!r}")
 
     @property
     def omega_de(self):

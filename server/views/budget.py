@@ -52,7 +52,7 @@ def _epochs_table(c: Comparison) -> dict:
                      num(ep.get("z_acceleration"), 4), num(ep.get("age_acceleration"), 4, "Gyr"),
                      num(ep.get("age_today"), 5, "Gyr"), str(ep.get("fate", "–")),
                      num(ep.get("t_recollapse") or ep.get("t_big_rip"), 4, "Gyr")])
-    return {"kind": "table", "title": "Epochs (ages since the big bang)", "header": [
+    return {"kind": "table", "title": "Epochs: redshift and age at z [Gyr] of each transition", "header": [
         "model", "z equality [dimensionless]", "age at equality", "z matter = dark energy", "age then",
         "z acceleration begins", "age then", "age today", "fate", "recollapse / big rip at"], "rows": rows}
 

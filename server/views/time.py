@@ -11,7 +11,7 @@ __all__ = ["build"]
 
 def build(c: Comparison) -> PanelSpec:
     history = {"kind": "figure", "id": "fd-fig-history", "spec": {
-        "title": "Scale factor against cosmic time, into the future", "x_title": "time since the big bang t [Gyr]",
+        "title": "Scale factor against cosmic time, into the future", "x_title": "cosmic time t [Gyr]",
         "x_hover": "t [Gyr]", "y_title": "scale factor a [dimensionless]", "y_hover": "a", "unit": "",
         "x_log": False, "series": curve_series(c, lambda cv: cv["history"]["a"], x_pick=lambda cv: cv["history"]["t"]),
         "strip": None,
