@@ -17,7 +17,10 @@ import plotly.utils
 from benchmarks.bench_model import _median_time
 from layouts.data_panel import fit_report, map_view
 from layouts.page import panel_body
-from server import codec, compute, create_app, data_store, panels
+from server import codec, compute, create_app, data_store
+from server.views import data_tools
+from server.views.comparison import compare
+from server.views.page import panel
 from server.cache import flush_writes
 
 QUERY = ("m1.label=Baseline&m2.label=Thawing&m2.w0=-0.9&m2.wa=-0.3&m3.label=Closed&m3.ok=-0.03"
@@ -46,7 +49,7 @@ def run():
         print(f"χ² of 4 models (uncached goodness_of_fit): {score * 1e3:.1f} ms")
 
         def page():
-            body = panel_body(panels.panel(panels.compare(codec.decode(query))))
+            body = panel_body(panel(compare(codec.decode(query))))
             return _json_size(body)
         page()
         flush_writes()
@@ -55,21 +58,21 @@ def run():
         print(f"data panel update, cached (4 models, 4 residual plots): {cached * 1e3:.1f} ms, {size / 1e3:.0f} kB")
 
         for free in (("omega_m", "w0"), ("omega_m", "w0", "wa"), ("h0", "omega_m", "r_d")):
-            spec = panels.parse_bounds(list(free), {})
+            spec = data_tools.parse_bounds(list(free), {})
             r_d = "model"
 
             def fit_once():
                 result = compute.fit.uncached(key, digest, spec, r_d)
                 fit = {"slot": 1, "name": "Baseline", "data": digest, "r_d_mode": r_d,
                        "bounds": [list(b) for b in spec], **result}
-                return _json_size(fit_report(panels.fit_report(fit)))
+                return _json_size(fit_report(data_tools.fit_report(fit)))
             seconds = _median_time(fit_once, 5)
             print(f"quick fit of {', '.join(free)} through the server path: {seconds * 1e3:.0f} ms")
 
-        x, y = panels.parse_bounds(["omega_m", "w0"], {})
+        x, y = data_tools.parse_bounds(["omega_m", "w0"], {})
 
         def map_once():
-            grid = compute.chi2_grid.uncached(key, digest, x, y, panels.MAP_POINTS, "model")
+            grid = compute.chi2_grid.uncached(key, digest, x, y, data_tools.MAP_POINTS, "model")
             spec = {"title": "map", "x": grid["x"], "y": grid["y"], "delta_chi2": grid["delta_chi2"],
                     "levels": grid["levels"], "best": (grid["best"]["omega_m"], grid["best"]["w0"])}
             return _json_size(map_view(spec, []))

@@ -13,7 +13,7 @@ from benchmarks.bench_model import _median_time
 from model import (Cosmology, Nuisances, chi2_map, evaluate, goodness_of_fit, quick_fit,
                    read_measurements)
 
-DEMO = pathlib.Path(__file__).resolve().parent.parent / "data" / "demo_synthetic.csv"
+DEMO = pathlib.Path(__file__).resolve().parent.parent / "server" / "demo" / "demo_synthetic.csv"
 
 
 def run():

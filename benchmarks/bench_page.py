@@ -45,8 +45,9 @@ if (!panel || document.querySelector('._dash-loading')) return false;
 const cards = document.querySelectorAll('.fd-card');
 if (cards.length < 4) return false;
 const plots = panel.querySelectorAll('.js-plotly-plot');
-const tables = panel.querySelectorAll('.dash-spreadsheet, table');
+const tables = panel.querySelectorAll('table, .fd-grid');
 if (plots.length === 0 && tables.length === 0) return false;
+for (const g of panel.querySelectorAll('.fd-grid')) { if (!g.querySelector('.ag-row')) return false; }
 for (const p of plots) { if (!p.querySelector('.main-svg') || !(p._fullData && p._fullData.length)) return false; }
 return true;
 """

@@ -19,9 +19,12 @@ import plotly.utils
 
 from layouts.cards import card_status
 from layouts.page import panel_body
-from server import codec, create_app, panels
+from server import codec, create_app
 from server.app import settle_heap
 from server.cache import flush_writes
+from server.views.cards import card_status as card_status_spec
+from server.views.comparison import compare
+from server.views.page import panel
 
 REPEATS = 9
 
@@ -37,12 +40,12 @@ def _four_model_query(seed: int) -> str:
 def full_update(query: str) -> dict[str, int]:
     """Every panel's serialised response size in bytes (and the card statuses')."""
     state = codec.decode(query)
-    comparison = panels.compare(state)
+    comparison = compare(state)
     sizes = {}
     for tab in codec.TABS:
-        body = panel_body(panels.panel(comparison, tab))
+        body = panel_body(panel(comparison, tab))
         sizes[tab] = len(json.dumps(body, cls=plotly.utils.PlotlyJSONEncoder))
-    statuses = [card_status(panels.card_status(state, m.slot)) for m in state.models]
+    statuses = [card_status(card_status_spec(state, m.slot)) for m in state.models]
     sizes["cards"] = len(json.dumps(statuses, cls=plotly.utils.PlotlyJSONEncoder))
     return sizes
 
@@ -50,8 +53,8 @@ def full_update(query: str) -> dict[str, int]:
 def open_panel_update(query: str) -> int:
     """What one link change costs in the app: the open panel and the card statuses."""
     state = codec.decode(query)
-    body = panel_body(panels.panel(panels.compare(state)))
-    statuses = [card_status(panels.card_status(state, m.slot)) for m in state.models]
+    body = panel_body(panel(compare(state)))
+    statuses = [card_status(card_status_spec(state, m.slot)) for m in state.models]
     return len(json.dumps([body, statuses], cls=plotly.utils.PlotlyJSONEncoder))
 
 

@@ -5,10 +5,13 @@ from __future__ import annotations
 from dash import dcc, html
 
 from layouts.ids import ids
+from layouts.palette import slot_colour
+from layouts.specs import Card, CardStatus
+from layouts.text import render
 
 
 def _field(slot: int, field: dict) -> html.Div:
-    unit = f" [{field['unit']}]" if field.get("unit") and field["unit"] != "1" else ""
+    unit = f" [{field['unit']}]" if field.get("unit") else ""
     return html.Div(className="fd-field", children=[
         html.Label(f"{field['title']}{unit}", htmlFor=f"fd-in-{slot}-{field['key']}",
                    title=field.get("description", "")),
@@ -19,14 +22,13 @@ def _field(slot: int, field: dict) -> html.Div:
     ])
 
 
-def model_card(card: dict) -> html.Div:
-    """`card`: ``{"slot", "colour", "label", "fields": [{"key", "title", "unit", "text",
-    "placeholder", "range", "description"}], "presets": [{"label", "value"}], "can_remove",
-    "can_duplicate"}``."""
+def model_card(card: Card) -> html.Div:
+    """`card`: a `layouts.specs.Card`; its colour is its slot's."""
     slot = card["slot"]
-    return html.Div(id=ids.card(slot), className="fd-card", style={"borderTopColor": card["colour"]}, children=[
+    colour = slot_colour(slot)
+    return html.Div(id=ids.card(slot), className="fd-card", style={"borderTopColor": colour}, children=[
         html.Div(className="fd-card-head", children=[
-            html.Span(className="fd-swatch", style={"backgroundColor": card["colour"]}),
+            html.Span(className="fd-swatch", style={"backgroundColor": colour}),
             html.Span(f"m{slot}", className="fd-slot"),
             dcc.Input(id=ids.param(slot, "label"), type="text", value=card["label"], debounce=True,
                       placeholder=f"Model {slot}", className="fd-label-input", maxLength=80),
@@ -44,14 +46,14 @@ def model_card(card: dict) -> html.Div:
     ])
 
 
-def card_status(status: dict) -> list:
-    """`status`: ``{"derived": [(name, text)], "errors": [message], "reference": bool}``."""
+def card_status(status: CardStatus) -> list:
+    """`status`: ``{"derived": [(name, Text)], "errors": [message], "reference": bool}``."""
     out = []
     if status.get("reference"):
         out.append(html.Div("reference model", className="fd-ref-badge"))
     if status.get("derived"):
         out.append(html.Dl(className="fd-derived", children=[
-            part for name, text in status["derived"] for part in (html.Dt(name), html.Dd(text))]))
+            part for name, text in status["derived"] for part in (html.Dt(name), html.Dd(render(text)))]))
     for message in status.get("errors", []):
         out.append(html.Div(message, className="fd-error", role="alert"))
     return out

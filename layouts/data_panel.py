@@ -1,7 +1,7 @@
 """The data panel's tools (upload, paste, demo, quick fit, Δχ² map) and their reports, from plain data.
 
 The tools stay in the page (shown on the data tab only), so a fit's report survives the link
-changes it causes; the χ² table and residual plots are panel blocks built by `server.panels`.
+changes it causes; the χ² table and residual plots are panel blocks built by `server.views.data`.
 Everything a user typed or uploaded is shown as text (components), never as markup.
 """
 
@@ -11,7 +11,9 @@ from dash import dcc, html
 
 from layouts.figures import chi2_map_figure
 from layouts.ids import ids
+from layouts.specs import DataToolOptions, FitReport
 from layouts.tables import table
+from layouts.text import render
 
 __all__ = ["data_tools", "fit_report", "map_view", "messages"]
 
@@ -29,9 +31,17 @@ def _bound_inputs(p: dict) -> html.Div:
     ])
 
 
-def data_tools(options: dict) -> html.Div:
-    """`options`: ``{"format": str, "limits": str, "demo_label": str, "parameters": [{"name",
-    "label", "unit", "low", "high", "range"}], "default_free": [names], "map_default": (x, y)}``."""
+def _map_note(points: int, levels) -> str:
+    regions = " and ".join(f"{probability:.0%}".replace("%", " %") for probability, _ in levels)
+    values = " and ".join(f"{level:.2f}" for _, level in levels)
+    return (f"On a {points} × {points} grid spanning the two parameters' bounds above; every other parameter "
+            f"keeps the chosen model's value (not minimised over). Contours: {regions} joint regions of two "
+            f"parameters, Δχ² = {values}.")
+
+
+def data_tools(options: DataToolOptions) -> html.Div:
+    """`options`: a `layouts.specs.DataToolOptions` (texts, the fit parameters with their default
+    bounds, the map's grid size and contour levels)."""
     params = options["parameters"]
     choices = [{"label": f"{p['label']}" + (f" [{p['unit']}]" if p.get("unit") else ""), "value": p["name"]}
                for p in params]
@@ -78,9 +88,7 @@ def data_tools(options: dict) -> html.Div:
         ]),
         html.Section(className="fd-data-box", children=[
             html.H3("Δχ² map of two parameters"),
-            html.P("On a 60 × 60 grid spanning the two parameters' bounds above; every other parameter keeps "
-                   "the chosen model's value (not minimised over). Contours: 68 % and 95 % joint regions of two "
-                   "parameters, Δχ² = 2.30 and 6.18.", className="fd-note"),
+            html.P(_map_note(options["map_points"], options["levels"]), className="fd-note"),
             html.Div(className="fd-data-row", children=[
                 html.Label("x", htmlFor=ids.map_x),
                 dcc.Dropdown(id=ids.map_x, options=choices, value=options["map_default"][0], clearable=False,
@@ -114,13 +122,12 @@ def messages(items: list[tuple[str, str]]) -> list:
                      role="alert" if kind == "error" else None) for kind, text in items]
 
 
-def fit_report(report: dict) -> list:
-    """`report`: ``{"title", "header", "rows", "correlation_header", "correlation_rows", "summary":
-    [str], "warnings": [str]}`` (all text)."""
+def fit_report(report: FitReport) -> list:
+    """`report`: a `layouts.specs.FitReport` (cells and summary lines as `Text`)."""
     out = [html.H4(report["title"], className="fd-fit-title"),
            table(report["header"], report["rows"])]
     for line in report["summary"]:
-        out.append(html.P(line, className="fd-fit-summary"))
+        out.append(html.P(render(line), className="fd-fit-summary"))
     if report.get("correlation_rows"):
         out.append(html.H4("Correlations (from the Jacobian at the best fit) [dimensionless]"))
         out.append(table(report["correlation_header"], report["correlation_rows"]))
@@ -128,7 +135,7 @@ def fit_report(report: dict) -> list:
     return out
 
 
-def map_view(spec: dict, notes: list[str]) -> list:
+def map_view(spec: dict, notes: list) -> list:
     return [dcc.Graph(id="fd-fig-chi2-map", figure=chi2_map_figure(spec), className="fd-graph",
                       config={"displaylogo": False, "toImageButtonOptions": {"format": "png"}})] + [
-        html.P(n, className="fd-fit-summary") for n in notes]
+        html.P(render(n), className="fd-fit-summary") for n in notes]

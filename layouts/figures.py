@@ -1,13 +1,9 @@
-"""Plotly figure dicts from plain figure specs (built by server.panels).
+"""Plotly figure dicts from the figure specs of `layouts.specs` (built by `server.views`).
 
-A spec::
-
-    {"title": str, "x_title": str, "y_title": str, "x_log": bool, "y_log": bool,
-     "x_hover": "z", "y_hover": "D_L", "unit": "Mpc",
-     "series": [{"name", "slot", "x", "y", "colour"?, "dash"?, "group"?}],
-     "points": [{"name", "slot"?, "x", "y", "error"?, "text"?, "colour"?, "symbol"?}],  (measurements)
-     "strip": {"y_title", "series": [...], "unit"} or None,
-     "markers": [{"x", "text", "slot"}]}
+The specs say what is drawn (series with a role, a slot, a component); this module decides how
+it looks: a model's curves take its slot's colour and dash, an energy component its colour,
+guides are thin grey dots, measurements dark markers with error bars, residuals and pulls the
+model's colour (lighter where many models' points crowd one plot).
 
 Curves travel as little-endian float32 typed arrays (``{"dtype": "f4", "bdata": ...}``, which
 plotly.js reads natively): values are already rounded to 6 significant digits, which float32
@@ -23,8 +19,8 @@ import weakref
 
 import numpy as np
 
-from layouts.palette import slot_colour, slot_dash
-from layouts.text import escape_for_figure
+from layouts.palette import COMPONENT_COLOURS, DATA_COLOUR, GUIDE_COLOUR, slot_colour, slot_dash
+from layouts.text import escape_for_figure, render
 
 __all__ = ["figure", "small_multiples", "typed_array", "uniform_step", "chi2_map_figure"]
 
@@ -80,20 +76,54 @@ def _x_of(values) -> dict:
     return {"x0": grid[0], "dx": grid[1]}
 
 
-def _points_trace(points: dict, spec: dict, yaxis: str, unit: str | None = None) -> dict:
-    """Measurements as markers with 1-sigma error bars; `text` (labels from the file) is escaped."""
+POINT_ROLES = frozenset({"data", "residual", "pull"})
+MARKER_SIZE = 5
+# residuals of several models share each redshift: past this many points, let the ones below show through
+CROWDED_POINTS, CROWDED_OPACITY = 50, 0.55
+
+
+def _line(series: dict) -> dict:
+    """Colour, dash and width of a curve from its role: a model's slot, an energy component, or
+    a grey dotted guide."""
+    role, slot = series.get("role", "model"), series.get("slot", 1)
+    if role == "component":
+        key = series["component"]
+        return {"color": COMPONENT_COLOURS[key], "dash": "dash" if key == "critical" else "solid", "width": 2}
+    if role == "guide":
+        return {"color": GUIDE_COLOUR, "dash": "dot", "width": 1}
+    return {"color": slot_colour(slot), "dash": slot_dash(slot), "width": 2}
+
+
+def _legend_group(series: dict, name: str) -> str:
+    """Curves of one model (or component, or guide) toggle together; a model's residuals with its pulls."""
+    role = series.get("role", "model")
+    if role == "component":
+        return series["component"]
+    if role == "guide":
+        return f"guide-{series['component']}"
+    if role == "data":
+        return f"points-{name}"
+    return f"slot{series.get('slot', 1)}"
+
+
+def _unit_text(unit: str) -> str:
+    return f" {unit}" if unit else ""
+
+
+def _points_trace(points: dict, spec: dict, yaxis: str, unit: str | None = None, crowded: bool = False) -> dict:
+    """Measurements (role data), or one model's residuals or pulls, as markers with 1-sigma error
+    bars; `text` (labels from the file) is escaped."""
     unit = spec.get("unit", "") if unit is None else unit
-    unit_text = f" {unit}" if unit and unit != "1" else ""
-    name = escape_for_figure(points["name"])
-    colour = points.get("colour") or (slot_colour(points["slot"]) if "slot" in points else "#333333")
+    name = escape_for_figure(render(points["name"]))
+    colour = DATA_COLOUR if points.get("role") == "data" else slot_colour(points.get("slot", 1))
+    opacity = CROWDED_OPACITY if crowded and len(points["x"]) > CROWDED_POINTS else 1.0
     trace = {
         "type": "scatter", "mode": "markers", "name": name, "xaxis": "x", "yaxis": yaxis,
         "x": np.asarray(points["x"], dtype=float).tolist(), "y": np.asarray(points["y"], dtype=float).tolist(),
-        "legendgroup": points.get("group", f"points-{name}"), "showlegend": points.get("showlegend", True),
-        "marker": {"color": colour, "size": points.get("size", 5), "symbol": points.get("symbol", "circle"),
-                   "opacity": points.get("opacity", 1.0)},
+        "legendgroup": _legend_group(points, name), "showlegend": points.get("role") != "pull",
+        "marker": {"color": colour, "size": MARKER_SIZE, "symbol": "circle", "opacity": opacity},
         "hovertemplate": (f"{spec.get('x_hover', 'x')} = %{{x:.5g}}<br>"
-                          f"{points.get('y_hover', spec.get('y_hover', 'y'))} = %{{y:.5g}}{unit_text}"
+                          f"{points.get('y_hover', spec.get('y_hover', 'y'))} = %{{y:.5g}}{_unit_text(unit)}"
                           + ("<br>%{text}" if points.get("text") is not None else "") + f"<extra>{name}</extra>"),
     }
     if points.get("error") is not None:
@@ -104,27 +134,30 @@ def _points_trace(points: dict, spec: dict, yaxis: str, unit: str | None = None)
     return trace
 
 
-def _trace(series: dict, spec: dict, yaxis: str, xaxis: str = "x", unit: str | None = None) -> dict:
-    if series.get("mode") == "markers":
-        return _points_trace(series, spec, yaxis, unit)
-    slot = series.get("slot", 1)
-    name = escape_for_figure(series["name"])
+def _crowded(series: list[dict]) -> bool:
+    """More than one model's residuals (or pulls) on one plot."""
+    return len({s.get("slot") for s in series if s.get("role") in ("residual", "pull")}) > 1
+
+
+def _trace(series: dict, spec: dict, yaxis: str, xaxis: str = "x", unit: str | None = None,
+           crowded: bool = False) -> dict:
+    if series.get("role") in POINT_ROLES:
+        return _points_trace(series, spec, yaxis, unit, crowded)
+    name = escape_for_figure(render(series["name"]))
     unit = spec.get("unit", "") if unit is None else unit
-    unit_text = f" {unit}" if unit and unit != "1" else ""
     return {
         "type": "scatter",
         "mode": "lines",
         **_x_of(series["x"]),
         "y": typed_array(series["y"]),
         "name": name,
-        "legendgroup": series.get("group", f"slot{slot}"),
-        "showlegend": series.get("showlegend", yaxis == "y"),
+        "legendgroup": _legend_group(series, name),
+        "showlegend": yaxis == "y",
         "xaxis": xaxis,
         "yaxis": yaxis,
-        "line": {"color": series.get("colour") or slot_colour(slot), "dash": series.get("dash") or slot_dash(slot),
-                 "width": series.get("width", 2)},
+        "line": _line(series),
         "hovertemplate": (f"{spec.get('x_hover', 'x')} = %{{x:.5g}}<br>"
-                          f"{series.get('y_hover', spec.get('y_hover', 'y'))} = %{{y:.6g}}{unit_text}"
+                          f"{series.get('y_hover', spec.get('y_hover', 'y'))} = %{{y:.6g}}{_unit_text(unit)}"
                           f"<extra>{name}</extra>"),
     }
 
@@ -144,11 +177,13 @@ def figure(spec: dict) -> dict:
     """One plot over redshift (or another x), with an optional strip against the reference."""
     strip = spec.get("strip")
     data = [_trace(s, spec, "y") for s in spec["series"]]
-    data += [_points_trace(p, spec, "y") for p in spec.get("points", [])]
+    points = spec.get("points", [])
+    crowded = _crowded(points)
+    data += [_points_trace(p, spec, "y", crowded=crowded) for p in points]
     layout = {
-        "title": {"text": escape_for_figure(spec.get("title", "")), "x": 0.01, "font": {"size": 14}},
+        "title": {"text": escape_for_figure(render(spec.get("title", ""))), "x": 0.01, "font": {"size": 14}},
         "font": FONT,
-        "height": spec.get("height", 420 if strip else 340),
+        "height": 420 if strip else 340,
         "margin": {"l": 70, "r": 20, "t": 40, "b": 50},
         "hovermode": "closest",
         "legend": {"orientation": "h", "y": -0.28 if not strip else -0.2, "x": 0},
@@ -160,8 +195,9 @@ def figure(spec: dict) -> dict:
     if strip:
         layout["yaxis2"] = _axis(strip["y_title"], False, domain=[0.0, STRIP_SHARE], anchor="x")
         layout["xaxis"]["title"] = {"text": escape_for_figure(spec.get("x_title", ""))}
+        crowded = _crowded(strip["series"])
         for s in strip["series"]:
-            trace = _trace(s, spec, "y2", unit=strip.get("unit", ""))
+            trace = _trace(s, spec, "y2", unit=strip.get("unit", ""), crowded=crowded)
             trace["showlegend"] = False
             data.append(trace)
     shapes, annotations = [], []
@@ -180,8 +216,8 @@ def figure(spec: dict) -> dict:
 def small_multiples(spec: dict) -> dict:
     """One small plot per model on shared axes (used for the energy budget).
 
-    ``spec["panels"]`` = ``[{"title", "slot", "series": [...]}]``; each series carries its own
-    colour and dash (colour = component) and `group` so that the legend lists each component once.
+    ``spec["panels"]`` = ``[{"title", "slot", "series": [...], "markers"?}]``; the series are
+    components (colour = component) and guides; the legend lists each once (from the first plot).
     """
     panels = spec["panels"]
     n = max(len(panels), 1)
@@ -190,7 +226,7 @@ def small_multiples(spec: dict) -> dict:
     data, annotations = [], []
     layout = {
         "font": FONT,
-        "height": spec.get("height", 360),
+        "height": 360,
         "margin": {"l": 70, "r": 20, "t": 50, "b": 80},
         "plot_bgcolor": "white",
         "hovermode": "closest",
@@ -205,14 +241,13 @@ def small_multiples(spec: dict) -> dict:
                                          **({"matches": "x"} if i else {}))
         layout[f"yaxis{suffix}"] = _axis(spec.get("y_title", "") if i == 0 else "", spec.get("y_log", False),
                                          anchor=f"x{suffix}", **({"matches": "y", "showticklabels": False}
-                                                                  if i else {}),
-                                         **({"range": spec["y_range"]} if "y_range" in spec else {}))
+                                                                  if i else {}))
         annotations.append({"text": escape_for_figure(panel["title"]), "x": x0 + width / 2, "xref": "paper",
                             "y": 1.0, "yref": "paper", "yanchor": "bottom", "showarrow": False,
                             "font": {"size": 12, "color": slot_colour(panel.get("slot", 1))}})
         for s in panel["series"]:
-            trace = _trace({**s, "name": s["name"]}, spec, f"y{suffix}", xaxis=f"x{suffix}")
-            trace["showlegend"] = i == 0 and s.get("showlegend", True)
+            trace = _trace(s, spec, f"y{suffix}", xaxis=f"x{suffix}")
+            trace["showlegend"] = i == 0
             trace["hovertemplate"] = trace["hovertemplate"].replace(
                 "<extra>", "<extra>" + escape_for_figure(panel["title"]) + ": ")
             data.append(trace)
@@ -251,7 +286,7 @@ def chi2_map_figure(spec: dict) -> dict:
                      "contours": {"start": level, "end": level, "size": 1.0, "coloring": "none",
                                   "showlabels": False},
                      "line": {"color": "#0072B2" if i == 0 else "#D55E00", "width": 2, "dash": dashes[i % 3]},
-                     "name": f"{probability:.0%} (Δχ² = {level:.2f})", "showlegend": True})
+                     "name": f"{100 * probability:.1f} % (Δχ² = {level:.2f})", "showlegend": True})
     if spec.get("best") is not None:
         data.append({"type": "scatter", "mode": "markers", "x": [spec["best"][0]], "y": [spec["best"][1]],
                      "marker": {"symbol": "x", "size": 10, "color": "#000000"},

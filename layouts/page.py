@@ -7,12 +7,16 @@ from dash import dcc, html
 from layouts.data_panel import data_tools
 from layouts.figures import figure, small_multiples
 from layouts.ids import ids
+from layouts.specs import PageOptions, PanelSpec
 from layouts.tables import table
+from layouts.text import render
 
 __all__ = ["page", "panel_body", "notice"]
 
+TONE_CLASSES = {"note": "fd-note", "error": "fd-error"}
 
-def page(options: dict) -> html.Div:
+
+def page(options: PageOptions) -> html.Div:
     """`options`: ``{"tabs": [(value, label)], "zmax_range": str, "data_tools": {...}}`` (see
     `layouts.data_panel.data_tools`); cards and panels are filled by callbacks from the link."""
     return html.Div(className="fd-page", children=[
@@ -71,9 +75,9 @@ def _control(control: dict):
     return html.Div(parts, className="fd-control")
 
 
-def panel_body(body: dict) -> list:
-    """`body`: ``{"intro", "controls": [...], "blocks": [{"kind": "figure"|"multiples"|"table"|"text",
-    ...}]}`` in display order."""
+def panel_body(body: PanelSpec) -> list:
+    """`body`: a `layouts.specs.PanelSpec` (``{"intro", "controls": [...], "blocks": [{"kind":
+    "figure"|"multiples"|"table"|"text", ...}]}``, blocks in display order)."""
     out = []
     if body.get("intro"):
         out.append(html.P(body["intro"], className="fd-intro"))
@@ -89,10 +93,10 @@ def panel_body(body: dict) -> list:
                                  config={"displaylogo": False}))
         elif kind == "table":
             if block.get("title"):
-                out.append(html.H3(block["title"]))
-            out.append(table(block["header"], block["rows"], colours=block.get("colours")))
+                out.append(html.H3(render(block["title"])))
+            out.append(table(block["header"], block.get("rows"), block.get("sections"), block.get("column_slots")))
         elif kind == "text":
-            out.append(html.P(block["text"], className=block.get("class", "fd-note")))
+            out.append(html.P(render(block["text"]), className=TONE_CLASSES[block.get("tone", "note")]))
     return out
 
 

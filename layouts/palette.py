@@ -36,3 +36,7 @@ def slot_colour(slot: int) -> str:
 
 def slot_dash(slot: int) -> str:
     return SLOT_DASHES[(slot - 1) % len(SLOT_DASHES)]
+
+# Measurements (whichever model they are compared with) and the slope guides of the density plot.
+DATA_COLOUR = "#222222"
+GUIDE_COLOUR = "#999999"

@@ -1,37 +1,59 @@
-"""Tables as one `dash_table.DataTable` each (text only: cells are plain strings, never markup).
+"""Tables from `layouts.specs.TableBlock`-shaped data (text only: cells are plain strings or
+`Number`s written by `layouts.text.render`, never markup).
 
-One component per table instead of one per cell: the 85-row table at the link's redshifts used
-to be about 800 `html.Td` components, which dominated the server's time for a cached update.
+Every table is one AG Grid component fed with its rows as data. As HTML the table panel's
+quantities at the link's redshifts (about 90 rows) would be about 800 ``html.Td`` components,
+which dominated the server's time for a cached update; a grid costs about the same for any size.
+A table in sections (rows under headings) shows each heading in a first column spanning its rows.
 """
 
 from __future__ import annotations
 
-from dash import dash_table, html
+import dash_ag_grid as dag
+from dash import html
+
+from layouts.palette import slot_colour
+from layouts.text import render
 
 __all__ = ["table"]
 
-_CELL = {"textAlign": "right", "padding": "3px 8px", "fontFamily": "inherit", "fontSize": "13px",
-         "border": "none", "borderBottom": "1px solid #ddd", "whiteSpace": "nowrap"}
-_HEADER = {"fontWeight": "bold", "backgroundColor": "white", "borderBottom": "3px solid #888"}
+_ROW_HEIGHT = 26
+_SECTION = "section"
 
 
-def table(header: list[str], rows: list[list], class_name: str = "fd-table", colours: list | None = None):
-    """`header` strings; `rows` of strings. `colours` optionally tints header cells (per column)."""
-    column_ids = [f"c{i}" for i in range(len(header))]
-    first = column_ids[:1]
-    header_styles = [{"if": {"column_id": cid}, "borderBottomColor": colours[i]}
-                     for i, cid in enumerate(column_ids) if colours and i < len(colours) and colours[i]]
-    return html.Div(className=class_name, children=dash_table.DataTable(
-        columns=[{"name": str(h), "id": cid, "type": "text"} for h, cid in zip(header, column_ids)],
-        data=[dict(zip(column_ids, map(str, row))) for row in rows],
-        style_as_list_view=True,
-        style_table={"overflowX": "auto"},
-        style_cell=_CELL,
-        style_header=_HEADER,
-        style_cell_conditional=[{"if": {"column_id": cid}, "textAlign": "left"} for cid in first],
-        style_header_conditional=header_styles,
-        page_action="none",
-        sort_action="none",
-        editable=False,
-        cell_selectable=False,
-    ))
+def _header_style(slot) -> dict:
+    """The header's rule under each column; a model's column in its slot's colour."""
+    return {"borderBottom": f"3px solid {'#888' if slot is None else slot_colour(slot)}"}
+
+
+def _grid(header: list[str], sections: list[tuple[str | None, list[list[str]]]], column_slots: list) -> dag.AgGrid:
+    fields = [f"c{i}" for i in range(len(header))]
+    # the first column names the row (left), the others hold numbers (right-aligned)
+    columns = [{"headerName": h, "field": f, "headerStyle": _header_style(slot)}
+               for h, f, slot in zip(header, fields, column_slots)]
+    for column in columns[1:]:
+        column["type"] = "rightAligned"
+    grouped = any(heading is not None for heading, _ in sections)
+    if grouped:
+        columns.insert(0, {"headerName": "", "field": _SECTION, "spanRows": True,
+                           "cellStyle": {"fontWeight": "bold"}})
+    data = [{**({_SECTION: heading} if grouped else {}), **dict(zip(fields, row))}
+            for heading, rows in sections for row in rows]
+    return dag.AgGrid(
+        className="fd-grid", columnDefs=columns, rowData=data, columnSize="autoSize",
+        defaultColDef={"sortable": False, "resizable": False, "suppressMovable": True, "filter": False},
+        dashGridOptions={"domLayout": "autoHeight", "enableCellSpan": grouped, "rowHeight": _ROW_HEIGHT,
+                         "headerHeight": _ROW_HEIGHT + 4, "suppressColumnVirtualisation": True,
+                         "suppressRowVirtualisation": True, "suppressCellFocus": True,
+                         "enableCellTextSelection": True},
+        style={"width": "100%"})
+
+
+def table(header: list[str], rows: list[list] | None = None, sections: list[dict] | None = None,
+          column_slots: list | None = None) -> html.Div:
+    """`header` strings; `rows` of cells, or `sections` (``[{"heading", "rows"}]``).
+    `column_slots` marks the header of a model's column with its colour."""
+    slots = list(column_slots or []) + [None] * (len(header) - len(column_slots or []))
+    parts = [(s["heading"], [[render(cell) for cell in row] for row in s["rows"]]) for s in sections] \
+        if sections else [(None, [[render(cell) for cell in row] for row in rows or []])]
+    return html.Div(className="fd-table", children=_grid(header, parts, slots))

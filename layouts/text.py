@@ -32,3 +32,15 @@ def with_unit(value, unit: str, digits: int = 6) -> str:
     if text in ("–",) or not unit or unit == "1":
         return text
     return f"{text} {unit}"
+
+
+def render(text) -> str:
+    """A `layouts.specs.Text` as a string: plain text as is, a `Number` with its digits and unit,
+    a list of pieces joined."""
+    if isinstance(text, str):
+        return text
+    if isinstance(text, dict):
+        return with_unit(text["value"], text.get("unit", ""), text.get("digits", 6))
+    if isinstance(text, (list, tuple)):
+        return "".join(render(part) for part in text)
+    return str(text)

@@ -13,13 +13,15 @@ from ._budget import COMPONENTS, densities, density_parameters, w_dark_energy, w
 from ._distances import Z_MAX, Z_MIN, evaluate
 from ._epochs import cosmic_time, epochs, scale_factor_history
 from ._errors import ModelError, NoBigBangError, ParameterError
-from ._fit import (CONFIDENCE_LEVELS_2D, FIT_PARAMETERS, Chi2Map, DistanceBatch, FitError,
-                   FitResult, chi2_map, quick_fit)
+from ._growth import linear_growth
 from ._inverse import INVERTIBLE, redshift_at
-from ._likelihood import GoodnessOfFit, KindResiduals, Nuisances, compare_models, goodness_of_fit
-from ._measurements import (MEASUREMENT_COLUMNS, MEASUREMENT_KINDS, MeasurementFormatError,
-                            MeasurementLimits, MeasurementSet, parse_measurements,
-                            read_measurements)
+from . import fitting
+from .fitting import (CONFIDENCE_LEVELS_2D, FIT_PARAMETERS, MEASUREMENT_COLUMNS, MEASUREMENT_KINDS,
+                      PREDICTIONS, Chi2Map, DistanceBatch, FitError, FitResult, GoodnessOfFit,
+                      KindResiduals, MeasurementFormatError, MeasurementKind, MeasurementLimits,
+                      MeasurementSet, Nuisances, TableFormatError, chi2_map, compare_models,
+                      content_cells, goodness_of_fit, parse_measurements, quick_fit,
+                      read_lines, read_measurements, read_rows)
 from ._quantities import QUANTITIES, THEMES, Quantity
 from ._params import MAX_NEUTRINO_SPECIES, PARAMETERS, Cosmology, ParameterSpec
 
@@ -51,26 +53,7 @@ __all__ = [
     "z_drag_fit",
     "r_drag_fit",
     "redshift_at",
+    "linear_growth",
     "INVERTIBLE",
-    # measurements and goodness of fit
-    "MEASUREMENT_KINDS",
-    "MEASUREMENT_COLUMNS",
-    "MeasurementFormatError",
-    "MeasurementLimits",
-    "MeasurementSet",
-    "parse_measurements",
-    "read_measurements",
-    "Nuisances",
-    "GoodnessOfFit",
-    "KindResiduals",
-    "goodness_of_fit",
-    "compare_models",
-    "FIT_PARAMETERS",
-    "CONFIDENCE_LEVELS_2D",
-    "FitError",
-    "FitResult",
-    "Chi2Map",
-    "DistanceBatch",
-    "quick_fit",
-    "chi2_map",
+    *fitting.__all__,  # measurements, goodness of fit and fits
 ]

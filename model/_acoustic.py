@@ -7,7 +7,8 @@ import numpy as np
 from ._distances import as_redshifts, evaluate
 from ._tables import tables
 
-__all__ = ["sound_horizon", "acoustic_scales", "z_star_fit", "z_drag_fit", "r_drag_fit"]
+__all__ = ["sound_horizon", "acoustic_scales", "z_star_fit", "z_drag_fit", "r_drag_fit",
+           "R_DRAG_FIT_RANGE", "r_drag_fit_outside"]
 
 
 def sound_horizon(cosmo, z):
@@ -64,15 +65,60 @@ def z_drag_fit(omega_b_h2, omega_m_h2):
             * (1.0 + b1 * omega_b_h2**b2))
 
 
+# The calibrated range of the r_drag formula. Aubourg et al. 2015 (PRD 92, 123516, §II and
+# eq. 16) calibrate it on CAMB for the standard radiation content, N_eff = 3.046 at
+# T_CMB = 2.7255 K, over the parameter range the Planck data allow, with Σm_ν up to 0.6 eV;
+# the exact edges below are our reading of that range (recalled from the paper, not copied
+# from a table in it): common practice, no source for the edges.
+R_DRAG_FIT_RANGE = {
+    "n_eff": (2.946, 3.146),          # N_eff = 3.046 ± 0.1 (the fit has no N_eff dependence)
+    "t_cmb": (2.7155, 2.7355),        # K, T_CMB = 2.7255 ± 0.01 K
+    "sum_m_nu": (0.0, 0.6),           # eV
+    "omega_b_h2": (0.018, 0.026),
+    "omega_cb_h2": (0.09, 0.16),
+}
+# Outside these the formula ignores physics the model has (radiation content, masses), and
+# r_drag becomes the integrated r_s(z_drag); outside the density edges only a caution is
+# given, since there the formula still follows ω_b and ω_cb smoothly and the integral at the
+# fitted z_drag is no better (it inherits the 1–4 % error of that fit).
+_R_DRAG_SWITCH = ("n_eff", "t_cmb", "sum_m_nu")
+
+
 def r_drag_fit(omega_cb_h2, omega_b_h2, omega_nu_h2):
     """Sound horizon at the drag epoch from the calibrated formula of Aubourg et al. 2015.
 
     r_d = 55.154 exp[−72.3 (ω_ν + 0.0006)²] / (ω_cb^0.25351 ω_b^0.12807) Mpc (Aubourg et al.
     2015, PRD 92, 123516, eq. 16), calibrated on CAMB for N_eff = 3.046 to 0.021 % over
-    the range allowed by Planck; it does not depend on N_eff otherwise.
+    the range allowed by Planck; it does not depend on N_eff or T_CMB otherwise.
+
+    Calibrated range (see :data:`R_DRAG_FIT_RANGE`): N_eff = 3.046 ± 0.1, T_CMB = 2.7255 ±
+    0.01 K, Σm_ν ≤ 0.6 eV, 0.018 ≤ ω_b ≤ 0.026, 0.09 ≤ ω_cb ≤ 0.16. The paper states the
+    standard radiation content and the Planck-allowed range; the numerical edges are our
+    reading of it. Outside the radiation and mass edges the formula misses physics the
+    model has (it is 20 % off the integrated sound horizon at N_eff = 10, 6.5 % at
+    T_CMB = 2 K) and :func:`acoustic_scales` uses r_s(z_drag) instead; outside the density
+    edges it only adds a caution.
     """
     return (55.154 * math.exp(-72.3 * (omega_nu_h2 + 0.0006) ** 2)
             / (omega_cb_h2**0.25351 * omega_b_h2**0.12807))
+
+
+def r_drag_fit_outside(cosmo):
+    """The inputs of ``cosmo`` outside :data:`R_DRAG_FIT_RANGE`, as (key, short text) pairs
+    (empty if none)."""
+    h2 = cosmo.h**2
+    d = cosmo._derived
+    have = {"n_eff": cosmo.n_eff, "t_cmb": cosmo.t_cmb, "omega_b_h2": cosmo.omega_b * h2,
+            "omega_cb_h2": d["omega_cb"] * h2, "sum_m_nu": float(sum(d["masses"]))}
+    names = {"n_eff": ("N_eff", ""), "t_cmb": ("T_CMB", " K"), "omega_b_h2": ("Ω_b h²", ""),
+             "omega_cb_h2": ("Ω_cb h²", ""), "sum_m_nu": ("Σm_ν", " eV")}
+    out = []
+    for key, (lo, hi) in R_DRAG_FIT_RANGE.items():
+        v = have[key]
+        if not lo <= v <= hi:
+            sym, unit = names[key]
+            out.append((key, f"{sym} = {v:.4g}{unit} (calibrated {lo:g} to {hi:g}{unit})"))
+    return out
 
 
 def acoustic_scales(cosmo):
@@ -83,35 +129,61 @@ def acoustic_scales(cosmo):
     dict
         ``z_star`` (Hu & Sugiyama 1996 fit), ``r_star`` = r_s(z*) [Mpc, integrated],
         ``d_m_star`` = D_M(z*) [Mpc], ``theta_star`` = r*/D_M(z*) [rad]; ``z_drag``
-        (Eisenstein & Hu 1998 fit), ``r_drag`` [Mpc] from the calibrated formula of Aubourg
-        et al. 2015 (eq. 16), and ``r_drag_integrated`` = r_s(z_drag) [Mpc]. All NaN when
-        T_CMB = 0 or Ω_b = 0 (no acoustic oscillations).
+        (Eisenstein & Hu 1998 fit); ``r_drag`` [Mpc], the model's r_d (used by the BAO
+        χ²); ``r_drag_method``: ``"fit"`` when ``r_drag`` is the calibrated formula of
+        Aubourg et al. 2015 (eq. 16), ``"integrated"`` when it is r_s(z_drag) because N_eff,
+        T_CMB or Σm_ν is outside the formula's calibrated range; ``r_drag_fit`` [Mpc], the
+        formula's value either way; ``r_drag_integrated`` = r_s(z_drag) [Mpc];
+        ``r_drag_caution``: None inside the calibrated range, else a sentence naming every
+        input outside it (Ω_b h², Ω_cb h² outside theirs give a caution with the fit kept).
+        All numbers NaN (method and caution None) when T_CMB = 0 or Ω_b = 0 (no acoustic
+        oscillations).
 
     Notes
     -----
     Each fit is documented in :func:`z_star_fit`, :func:`z_drag_fit` and
     :func:`r_drag_fit` with its known accuracy. For the Planck 2018 base model r_drag agrees
     with Planck's Boltzmann-code value to 0.02 %, whereas r_s at the fitted z_drag does not
-    (the fitted z_drag is not Planck's).
+    (the fitted z_drag is not Planck's). Outside the calibrated range
+    (:data:`R_DRAG_FIT_RANGE`) the formula has no accuracy statement at all. Where the
+    radiation content or the masses are outside, the integral r_s(z_drag) still carries the
+    model's own physics and only the 1–4 % uncertainty of the fitted z_drag, so it is
+    preferred; where only ω_b or ω_cb are, the formula still follows them smoothly (it
+    stays within 3 % of r_s(z_drag) for 0.06 ≤ ω_cb ≤ 0.36, against 2.4 % at the Planck
+    model), so it is kept, with the caution, and the fits' Δχ² maps stay consistent.
     """
     d = cosmo._derived
     h2 = cosmo.h**2
     nan = float("nan")
     if d["omega_gamma"] <= 0.0 or cosmo.omega_b <= 0.0 or d["omega_cb"] <= 0.0:
         keys = ("z_star", "r_star", "d_m_star", "theta_star", "z_drag", "r_drag",
-                "r_drag_integrated")
-        return {k: nan for k in keys}
+                "r_drag_fit", "r_drag_integrated")
+        out = {k: nan for k in keys}
+        out.update(r_drag_method=None, r_drag_caution=None)
+        return out
     wb, wm = cosmo.omega_b * h2, cosmo.omega_m * h2
     z_star = float(z_star_fit(wb, wm))
     z_drag = float(z_drag_fit(wb, wm))
     r_star, r_drag_int = (float(v) for v in sound_horizon(cosmo, [z_star, z_drag]))
     d_m_star = float(evaluate(cosmo, z_star)["transverse_comoving_distance"])
+    r_fit = r_drag_fit(d["omega_cb"] * h2, wb, d["omega_nu"] * h2)
+    found = r_drag_fit_outside(cosmo)
+    switch = any(key in _R_DRAG_SWITCH for key, _ in found)
+    caution = None
+    if found:
+        lead = ("r_drag is the integrated sound horizon at the fitted z_drag: "
+                if switch else "r_drag is the calibrated formula used outside its range: ")
+        caution = (lead + "the formula of Aubourg et al. 2015 is calibrated only near "
+                   "the Planck model, not for " + "; ".join(text for _, text in found))
     return {
         "z_star": z_star,
         "r_star": r_star,
         "d_m_star": d_m_star,
         "theta_star": r_star / d_m_star,
         "z_drag": z_drag,
-        "r_drag": r_drag_fit(d["omega_cb"] * h2, wb, d["omega_nu"] * h2),
+        "r_drag": r_drag_int if switch else r_fit,
+        "r_drag_method": "integrated" if switch else "fit",
+        "r_drag_fit": r_fit,
         "r_drag_integrated": r_drag_int,
+        "r_drag_caution": caution,
     }

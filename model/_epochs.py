@@ -3,12 +3,12 @@
 import math
 
 import numpy as np
-from scipy import integrate, optimize
+from scipy import optimize
 
 from ._background import budget_total, components
 from ._constants import NEUTRINO_PER_PHOTON
 from ._distances import evaluate
-from ._future import future
+from ._future import future, integral_da
 from ._tables import U_MAX, U_MIN, tables
 
 __all__ = ["epochs", "scale_factor_history", "cosmic_time"]
@@ -37,7 +37,7 @@ def _first_sign_change(f, u):
 
 
 def cosmic_time(cosmo, a):
-    """Cosmic time since the big bang at a scale factor, on the expanding branch.
+    """Cosmic time t at a scale factor, on the expanding branch.
 
     Parameters
     ----------
@@ -49,20 +49,31 @@ def cosmic_time(cosmo, a):
     -------
     float
         t(a) = ∫₀^a da' / (a' H(a')) in Gyr (Hogg 1999, §10, eq. 30 with the limits of the
-        age); inf for a model whose H vanishes as a → 0.
+        age); inf for a model whose H vanishes as a → 0; NaN beyond the turnaround of a
+        recollapsing model (a > a_max).
+
+    Notes
+    -----
+    Up to a = 110 from the tables (and, between the last trusted node and a turnaround, the
+    direct integral in s = √(a_max − a) of ``model._future``); beyond, the tables' edge
+    value plus composite Gauss–Legendre in ln a (:func:`model._future.integral_da`).
     """
     u = -math.log(a)
     tab = tables(cosmo)
+    fut = future(cosmo)
+    th = cosmo.hubble_time
+    if fut.a_max is not None and a > fut.a_max:
+        return math.nan
     if u >= U_MIN:
-        return float(cosmo.hubble_time * tab.interpolate("age", tab.locate(np.array([u])))[0])
+        if fut.u_turn is not None and fut.a_max > 1.0 and fut.u_turn >= U_MIN \
+                and u < tab.u[fut.k_good]:
+            _, tau = fut.near_turnaround(np.array([u]))
+            return float(th * (tab.tau_infinity - tau[0]))
+        return float(th * tab.interpolate("age", tab.locate(np.array([u])))[0])
     # Beyond the grid: add ∫ da / (a E) from the grid edge.
-    from ._future import scalar_e2
-
-    e2 = scalar_e2(cosmo)
     a_edge = math.exp(-U_MIN)
-    extra = integrate.quad(lambda s: 1.0 / (s * math.sqrt(e2(s))), a_edge, a,
-                           epsrel=1e-11, limit=200)[0]
-    return cosmic_time(cosmo, a_edge) + cosmo.hubble_time * extra
+    extra = integral_da(cosmo, a_edge, a, 1, fut.a_max)
+    return cosmic_time(cosmo, a_edge) + th * extra
 
 
 def epochs(cosmo):
@@ -81,7 +92,9 @@ def epochs(cosmo):
         ``fate``: "eternal expansion", "recollapse" or "big rip"; ``a_max``,
         ``t_max_expansion`` and ``t_recollapse`` for a recollapse; ``t_big_rip`` for a big
         rip; ``a_future_acceleration`` and ``t_future_acceleration`` when a decelerating
-        model will start to accelerate. Times are cosmic time since the big bang, Gyr.
+        model will start to accelerate. Times are cosmic time t, Gyr.
+        The fate is decided at any scale factor (``model._future``); a turnaround beyond
+        a = 1e100 has infinite times, and ``a_max`` is inf beyond float range.
 
     Notes
     -----
@@ -162,7 +175,7 @@ def scale_factor_history(cosmo, a_end=10.0, n=400, a_start=1e-6):
     Returns
     -------
     dict
-        ``t`` (Gyr since the big bang) and ``a``, ordered in time. A recollapsing model
+        ``t`` (cosmic time, Gyr) and ``a``, ordered in time. A recollapsing model
         whose turnaround comes before ``a_end`` continues on the contracting branch,
         t = 2 t_max − t(a), down to ``a_start``; a big rip stops at ``a_end``.
     """
@@ -174,6 +187,8 @@ def scale_factor_history(cosmo, a_end=10.0, n=400, a_start=1e-6):
     tab = tables(cosmo)
     u = -np.log(a_up)
     on_grid = u >= U_MIN
+    if fut.u_turn is not None and fut.a_max > 1.0 and fut.u_turn >= U_MIN:
+        on_grid &= u >= tab.u[fut.k_good]  # nearer the turnaround: cosmic_time integrates in s
     t_up = np.empty(m)
     t_up[on_grid] = cosmo.hubble_time * tab.interpolate("age", tab.locate(u[on_grid]))
     t_up[~on_grid] = [cosmic_time(cosmo, a) for a in a_up[~on_grid]]

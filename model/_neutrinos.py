@@ -78,7 +78,7 @@ def fermi_dirac(y):
     Returns
     -------
     f : ndarray
-        ``F(y)``, with ``F(0) = 1`` and ``F ~ 180 zeta(3) y / (7 pi^4)`` for ``y >> 1``.
+        ``F(y)``, the shape of ``y`` (0-d for a scalar), with ``F(0) = 1`` and ``F ~ 180 zeta(3) y / (7 pi^4)`` for ``y >> 1``.
     g : ndarray
         ``dF/d ln y = y F'(y)``; the species' equation of state is ``w = (1 - g/F) / 3``.
     dg : ndarray
@@ -103,6 +103,8 @@ def fermi_dirac(y):
     1.0
     """
     y = np.asarray(y, dtype=float)
+    shape = y.shape
+    y = y.ravel()  # 0-d inputs too: the in-place clip below needs an array
     log_y_tab, _, _, dg_tab = _table()
     f_coef, g_coef = _coefficients()
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
@@ -128,4 +130,4 @@ def fermi_dirac(y):
             f[large] = _NORM * (a1 * yl + a3 / yl + a5 / yl**3)
             g[large] = _NORM * (a1 * yl - a3 / yl - 3 * a5 / yl**3)
             dg[large] = _NORM * (a1 * yl + a3 / yl + 9 * a5 / yl**3)
-    return f, g, dg
+    return f.reshape(shape), g.reshape(shape), dg.reshape(shape)

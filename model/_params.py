@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import warnings
 from dataclasses import dataclass, field
 from typing import NamedTuple
 
@@ -103,6 +104,10 @@ def _radiation(h0, t_cmb, n_eff):
     return omega_gamma, n_eff / 3.0 * const.NEUTRINO_PER_PHOTON * omega_gamma
 
 
+# Earlier attribute names -> current ones (read with a DeprecationWarning; removed next release).
+_RENAMED = {"omega_cdm": "omega_cold_dark_matter"}
+
+
 @dataclass(frozen=True, kw_only=True)
 class Cosmology:
     """A Friedmann–Lemaître–Robertson–Walker model and its energy budget today.
@@ -125,7 +130,8 @@ class Cosmology:
         CMB temperature today in K (Fixsen 2009); 0 switches photons and neutrinos off.
     n_eff : float, optional
         Effective number of neutrino species; each of the three carries N_eff/3 of the
-        massless density.
+        massless density. ``n_eff=0`` requires ``m_nu=()`` (no neutrinos at all) unless
+        T_CMB = 0; with masses given it is refused (ParameterError naming ``n_eff``).
     m_nu : sequence of float, optional
         Neutrino masses in eV, 0 to 3 entries; missing entries and zeros are massless.
     label : str, optional
@@ -171,9 +177,17 @@ class Cosmology:
         if not isinstance(self.label, str):
             raise ParameterError("label", self.label, "a text label", "the label is not text")
 
+        massive = tuple(m for m in self.m_nu if m > 0.0)
+        if self.n_eff == 0.0 and self.t_cmb > 0.0 and massive:
+            # N_eff = 0 leaves no neutrino density for the masses to act on: refuse rather
+            # than drop the masses silently.
+            raise ParameterError(
+                "n_eff", self.n_eff,
+                f"0 < N_eff ≤ {_SPEC['n_eff'].maximum:g} when neutrino masses are given "
+                "(or m_nu=() for no neutrinos at all)",
+                f"N_eff = 0 would drop the masses {', '.join(f'{m:g}' for m in massive)} eV")
         omega_gamma, omega_nu1 = _radiation(self.h0, self.t_cmb, self.n_eff)
         t_nu = const.NEUTRINO_TEMPERATURE_RATIO * self.t_cmb
-        massive = tuple(m for m in self.m_nu if m > 0.0)
         if t_nu > 0.0 and omega_nu1 > 0.0 and massive:
             y0 = np.array([m * const.ELECTRON_VOLT_J / (const.BOLTZMANN * t_nu) for m in massive])
             omega_nu = float(omega_nu1 * np.sum(fermi_dirac(y0)[0]))
@@ -313,9 +327,17 @@ class Cosmology:
         return self._derived["omega_cb"]
 
     @property
-    def omega_cdm(self):
-        """Cold dark matter today."""
+    def omega_cold_dark_matter(self):
+        """Ω_c: cold dark matter today, Ω_m − Ω_ν − Ω_b (the component ``cold_dark_matter``)."""
         return self._derived["omega_cb"] - self.omega_b
+
+    def __getattr__(self, name):
+        # names of an earlier release, kept for one release with a warning
+        if name in _RENAMED:
+            warnings.warn(f"Cosmology.{name} is deprecated; use Cosmology.{_RENAMED[name]}",
+                          DeprecationWarning, stacklevel=2)
+            return getattr(self, _RENAMED[name])
+        raise AttributeError(f"'Cosmology' object has no attribute {name!r}")
 
     @property
     def omega_de(self):

@@ -1,4 +1,4 @@
-"""Write the SYNTHETIC demo measurement table, data/demo_synthetic.csv.
+"""Write the SYNTHETIC demo measurement table, server/demo/demo_synthetic.csv (package data).
 
 Nothing in it is a real measurement. An invented survey pair -- the "Kestrel Ridge Transient
 Survey" (supernova-like distance moduli) and the "Lanternfish Redshift Survey" (BAO-like
@@ -7,7 +7,7 @@ Gaussian noise from a fixed seed. Every row's label and the header say "syntheti
 
 Usage::
 
-    python scripts/make_demo_data.py            # rewrite data/demo_synthetic.csv
+    python scripts/make_demo_data.py            # rewrite server/demo/demo_synthetic.csv
     python scripts/make_demo_data.py --check    # exit 1 if the committed file differs
 
 The output is reproducible for a given numpy (Generator streams are stable in practice but
@@ -25,9 +25,9 @@ ROOT = pathlib.Path(__file__).resolve().parent.parent
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from model import Cosmology, acoustic_scales, evaluate  # noqa: E402
+from model import MEASUREMENT_KINDS, Cosmology, acoustic_scales, evaluate  # noqa: E402
 
-OUTPUT = ROOT / "data" / "demo_synthetic.csv"
+OUTPUT = ROOT / "server" / "demo" / "demo_synthetic.csv"
 SEED = 20261201
 
 #: The invented truth behind the demo data: a mildly evolving dark energy.
@@ -47,8 +47,6 @@ BAO_BINS = [
     (1.45, ("dv_over_rd",), (0.022,), None),
     (2.20, ("dm_over_rd", "dh_over_rd"), (0.021, 0.019), -0.45),
 ]
-_DISTANCE_OF = {"dm_over_rd": "transverse_comoving_distance", "dh_over_rd": "hubble_distance_at_z",
-                "dv_over_rd": "volume_averaged_distance"}
 
 
 def demo_table():
@@ -84,7 +82,7 @@ def demo_table():
 
     for z_bin, kinds, fractions, correlation in BAO_BINS:
         q = evaluate(truth, z_bin)
-        truth_values = np.array([float(q[_DISTANCE_OF[k]]) / r_d for k in kinds])
+        truth_values = np.array([float(q[MEASUREMENT_KINDS[k].quantity]) / r_d for k in kinds])
         errors = np.array(fractions) * truth_values
         cov = np.diag(errors**2)
         if correlation is not None:

@@ -20,15 +20,16 @@ from layouts.data_panel import fit_report, map_view, messages
 from layouts.ids import ids
 from layouts.page import notice, panel_body
 import model
-from server import codec, data_store, panels, state as states
+from server import codec, data_store, state as states
+from server.views import data_tools
+from server.views.cards import card_status as card_status_spec, cards
+from server.views.comparison import compare
+from server.views.downloads import panel_csv, parameter_sets
+from server.views.page import page_options, panel  # page_options: read by the app factory
 
 __all__ = ["register", "page_options", "upload_bytes"]
 
 logger = logging.getLogger(__name__)
-
-
-def page_options() -> dict:
-    return panels.page_options()
 
 
 def upload_bytes(contents: str | None, field: str) -> bytes | None:
@@ -52,7 +53,7 @@ def _fit_bounds(items: list) -> dict:
 
 
 def _cards(state: codec.LinkState) -> list:
-    return [model_card(card) for card in panels.cards(state)]
+    return [model_card(card) for card in cards(state)]
 
 
 def _reference_options(state: codec.LinkState) -> list[dict]:
@@ -128,12 +129,12 @@ def register(app) -> None:
     )
     def render(search, href, fit_slot):
         state = codec.decode(search or "")
-        comparison = panels.compare(state)
+        comparison = compare(state)
         try:
-            body = panel_body(panels.panel(comparison))
+            body = panel_body(panel(comparison))
         except Exception as err:  # noqa: BLE001 - one panel failing must leave the page working
             logger.exception("panel %s failed for %r", state.view.tab, search)
-            body = panel_body({"blocks": [{"kind": "text", "class": "fd-error",
+            body = panel_body({"blocks": [{"kind": "text", "tone": "error",
                                            "text": f"This panel could not be drawn: {err}"}]})
         dropped = [p.message for p in state.notices]
         box = {"display": "block"} if (dropped or state.unknown) else {"display": "none"}
@@ -160,16 +161,16 @@ def register(app) -> None:
         state = codec.decode(search or "")
         try:
             if trigger == ids.data_demo:
-                new_search, message = panels.store_upload(state, data_store.demo_bytes(), None,
+                new_search, message = data_tools.store_upload(state, data_store.demo_bytes(), None,
                                                           data_store.DEMO_PATH.name)
             elif trigger == ids.data_paste:
                 if not (text or "").strip():
                     return no_update, messages([("error", "pasted table: the box is empty; paste a table with "
                                                           "the header z,kind,value,error first")])
-                new_search, message = panels.store_upload(
+                new_search, message = data_tools.store_upload(
                     state, text, upload_bytes(covariance, "covariance"), "pasted table")
             elif trigger == ids.data_upload and upload is not None:
-                new_search, message = panels.store_upload(
+                new_search, message = data_tools.store_upload(
                     state, upload_bytes(upload, "measurements"), upload_bytes(covariance, "covariance"),
                     str(filename or "uploaded file"))
             else:
@@ -206,13 +207,13 @@ def register(app) -> None:
             return no_update, no_update, no_update
         state = codec.decode(search or "")
         try:
-            fit = panels.fit_request(state, slot, list(free or []), _fit_bounds(ctx.states_list[2]))
-        except (panels.FitRequestError, data_store.DataError, model.ModelError) as err:
+            fit = data_tools.fit_request(state, slot, list(free or []), _fit_bounds(ctx.states_list[2]))
+        except (data_tools.FitRequestError, data_store.DataError, model.ModelError) as err:
             return messages([("error", f"No fit: {err}")]), None, True
         except Exception as err:  # noqa: BLE001
             logger.exception("fit failed for %r", search)
             return messages([("error", f"No fit: the computation failed ({err})")]), None, True
-        return fit_report(panels.fit_report(fit)), fit, False
+        return fit_report(data_tools.fit_report(fit)), fit, False
 
     @app.callback(
         Output(ids.url, "search", allow_duplicate=True),
@@ -249,8 +250,8 @@ def register(app) -> None:
             return no_update
         state = codec.decode(search or "")
         try:
-            result = panels.map_request(state, slot, x_name, y_name, _fit_bounds(ctx.states_list[3]), fit)
-        except (panels.FitRequestError, data_store.DataError, model.ModelError) as err:
+            result = data_tools.map_request(state, slot, x_name, y_name, _fit_bounds(ctx.states_list[3]), fit)
+        except (data_tools.FitRequestError, data_store.DataError, model.ModelError) as err:
             return messages([("error", f"No map: {err}")])
         except Exception as err:  # noqa: BLE001
             logger.exception("map failed for %r", search)
@@ -264,7 +265,7 @@ def register(app) -> None:
     )
     def status(search, status_id):
         state = codec.decode(search or "")
-        return card_status(panels.card_status(state, status_id["slot"]))
+        return card_status(card_status_spec(state, status_id["slot"]))
 
     @app.callback(
         Output(ids.notice_box, "style", allow_duplicate=True),
@@ -284,7 +285,7 @@ def register(app) -> None:
         if not n_clicks:
             return no_update
         state = codec.decode(search or "")
-        text = panels.panel_csv(panels.compare(state))
+        text = panel_csv(compare(state))
         return dcc.send_string(text, f"friedmann-desk-{state.view.tab}.csv")
 
     @app.callback(
@@ -297,4 +298,4 @@ def register(app) -> None:
         if not n_clicks:
             return no_update
         state = codec.decode(search or "")
-        return dcc.send_string(panels.parameter_sets(panels.compare(state)), "friedmann-desk-models.json")
+        return dcc.send_string(parameter_sets(compare(state)), "friedmann-desk-models.json")

@@ -9,7 +9,6 @@ Lines other than the header and the rows (blank lines, ``#`` comments) are passe
 
 from __future__ import annotations
 
-import csv
 import io
 import math
 import time
@@ -35,44 +34,34 @@ class CatalogueError(ValueError):
         super().__init__(f"redshift file, line {line}, column {column}: {reason}")
 
 
+def _refused(err: model.TableFormatError) -> CatalogueError:
+    return CatalogueError(err.line, err.column, err.reason)
+
+
 def _lines(handle: IO[bytes]) -> Iterator[tuple[int, str]]:
-    handle.seek(0)
-    first = True
-    for number, raw in enumerate(handle, start=1):
-        if first and raw.startswith(b"\xef\xbb\xbf"):
-            raw = raw[3:]
-        first = False
-        try:
-            text = raw.decode("utf-8")
-        except UnicodeDecodeError as err:
-            raise CatalogueError(number, 1, f"byte 0x{raw[err.start]:02x} is not UTF-8; save the file as UTF-8 "
-                                            "text (a binary file or another encoding was given)") from None
-        if "\x00" in text:
-            raise CatalogueError(number, 1, "a NUL byte: this looks like a binary file; only text is accepted")
-        yield number, text.rstrip("\r\n")
-
-
-def _cells(text: str, number: int) -> list[str]:
-    if '"' not in text and "\r" not in text:
-        return text.split(",")
+    """Every line as (number, text), read by `model.read_lines` (UTF-8, BOM, line ends,
+    control characters)."""
     try:
-        return next(csv.reader([text], strict=True), [])
-    except csv.Error as err:
-        raise CatalogueError(number, 1, f"the line cannot be read as comma-separated cells ({err}); a quoted "
-                                        "cell must be closed on its line, and only \\n or \\r\\n end lines") from None
+        yield from model.read_lines(handle, "redshift")
+    except model.TableFormatError as err:
+        raise _refused(err) from None
 
 
-def _is_content(text: str) -> bool:
-    stripped = text.strip()
-    return bool(stripped) and not stripped.startswith("#")
+def _cells(text: str, number: int) -> list[str] | None:
+    """The line's trimmed cells (`model.content_cells`), None for a blank or comment line."""
+    try:
+        return model.content_cells(text, "redshift", number)
+    except model.TableFormatError as err:
+        raise _refused(err) from None
 
 
 def _header(handle) -> tuple[int, int, int]:
     """(line of the header, index of the z column, number of header cells)."""
     for number, text in _lines(handle):
-        if not _is_content(text):
+        cells = _cells(text, number)
+        if cells is None:
             continue
-        names = [c.strip().lower() for c in _cells(text, number)]
+        names = [c.lower() for c in cells]
         hits = [i for i, n in enumerate(names) if n == "z"]
         if len(hits) != 1:
             raise CatalogueError(number, (hits[1] + 1) if hits else 1,
@@ -101,10 +90,10 @@ def _slow_chunk(lines, z_index: int, width: int) -> list:
     """Line by line, naming the first bad line and column (raises `CatalogueError`)."""
     out = []
     for number, text in lines:
-        if not _is_content(text):
+        cells = _cells(text, number)
+        if cells is None:
             out.append(None)
             continue
-        cells = _cells(text, number)
         if len(cells) != width:
             raise CatalogueError(number, min(len(cells), width) + 1,
                                  f"{len(cells)} cells where the header has {width}")

@@ -18,8 +18,8 @@ from server import codec
 from server.cache import in_process, memoized
 
 __all__ = [
-    "GRID_POINTS", "LINEAR_GRID_ZMAX", "SIGNIFICANT_DIGITS", "A_MIN", "A_MAX", "Resolved", "resolve", "resolve_all",
-    "model_curves", "values_at", "round_significant", "json_ready", "survey_volume", "inverse_lookup",
+    "GRID_POINTS", "LINEAR_GRID_ZMAX", "SIGNIFICANT_DIGITS", "A_MIN", "A_MAX", "GUIDE_POWERS", "Resolved", "resolve",
+    "resolve_all", "model_curves", "values_at", "round_significant", "json_ready", "survey_volume", "inverse_lookup",
     "cosmology_for", "goodness", "fit", "chi2_grid", "fitted_count",
 ]
 
@@ -133,13 +133,13 @@ def json_ready(value):
 
 
 def _resolved_parameters(cosmo: model.Cosmology) -> dict:
-    baryons = cosmo.omega_b if cosmo.omega_b is not None else cosmo.omega_cb - cosmo.omega_cdm
+    baryons = cosmo.omega_b if cosmo.omega_b is not None else cosmo.omega_cb - cosmo.omega_cold_dark_matter
     return {
         "h0": cosmo.h0, "omega_m": cosmo.omega_m, "omega_b": baryons, "omega_k": cosmo.omega_k,
         "omega_de": cosmo.omega_de, "w0": cosmo.w0, "wa": cosmo.wa, "t_cmb": cosmo.t_cmb,
         "n_eff": cosmo.n_eff, "m_nu": list(cosmo.m_nu), "omega_r": cosmo.omega_r,
         "omega_gamma": cosmo.omega_gamma, "omega_nu": cosmo.omega_nu,
-        "omega_nu_massless": cosmo.omega_nu_massless, "omega_cdm": cosmo.omega_cdm,
+        "omega_nu_massless": cosmo.omega_nu_massless, "omega_cold_dark_matter": cosmo.omega_cold_dark_matter,
         "omega_cb": cosmo.omega_cb, "hubble_distance": cosmo.hubble_distance,
         "hubble_time": cosmo.hubble_time,
     }
@@ -156,7 +156,7 @@ def _plain(mapping: dict) -> dict:
     return out
 
 
-LINEAR_GRID_ZMAX = 20.0  # up to here the panels draw z on a linear axis (panels._z_axis)
+LINEAR_GRID_ZMAX = 20.0  # up to here the panels draw z on a linear axis (server.views.parts.z_axis)
 
 
 def redshift_grid(zmax: float, n: int = GRID_POINTS) -> np.ndarray:
@@ -170,18 +170,39 @@ def redshift_grid(zmax: float, n: int = GRID_POINTS) -> np.ndarray:
     return z
 
 
+# Slope guides on the density plot: component -> power of a (radiation a⁻⁴, matter a⁻³, a
+# cosmological constant a⁰), each drawn through the component's density today.
+GUIDE_POWERS = {"photons": -4, "cold_dark_matter": -3, "dark_energy": 0}
+
+
 def _budget(cosmo: model.Cosmology) -> dict:
     a = np.geomspace(A_MIN, A_MAX, GRID_POINTS)
     z = 1.0 / a - 1.0
     with np.errstate(all="ignore"):
         fractions = model.density_parameters(cosmo, z)
         rho = model.densities(cosmo, z)
-    return {"a": a, "omega": fractions, "rho": rho}
+        ends = np.array([a[0], a[-1]])
+        # each guide passes through the component's density today; NaN where that is not positive
+        today = {k: float(np.asarray(v).ravel()[0]) for k, v in model.densities(cosmo, np.zeros(1)).items()}
+        guides = {k: today[k] * ends ** power if math.isfinite(today[k]) and today[k] > 0 else np.full(2, np.nan)
+                  for k, power in GUIDE_POWERS.items() if k in today}
+    return {"a": a, "omega": fractions, "rho": rho, "guides": guides, "guide_a": ends}
+
+
+def _epoch_scale_factors(epochs: dict) -> dict:
+    """a = 1/(1+z) of the epochs the budget panel marks (None where an epoch does not happen)."""
+    out = {}
+    for name in ("z_equality", "z_dark_energy_equality", "z_acceleration"):
+        z = epochs.get(name)
+        out["a" + name[1:]] = None if z is None or not math.isfinite(z) or z <= -1 else 1.0 / (1.0 + z)
+    return out
 
 
 @memoized
 def model_curves(key: str, zmax: float) -> dict:
-    """Everything the six panels draw for one model (rounded numpy arrays and plain dicts)."""
+    """Everything the panels draw for one model (rounded numpy arrays and plain dicts): the
+    curves over z and a, the slope guides of the density plot (``rho_guides`` at ``guide_a``),
+    H/(1+z), the epochs and their scale factors, the acoustic scales."""
     cosmo = cosmology_for(key)
     z = redshift_grid(zmax)
     with np.errstate(all="ignore"):
@@ -195,6 +216,8 @@ def model_curves(key: str, zmax: float) -> dict:
             "dh_rd": at["hubble_distance_at_z"] / r_drag,
             "dv_rd": at["volume_averaged_distance"] / r_drag,
         }
+        # the comoving expansion rate H/(1+z) = ȧ (in units of H's), flat during coasting
+        hubble_over_1pz = at["hubble_parameter"] / (1.0 + z)
     budget = _budget(cosmo)
     curves = _rounded_together({
         "z": z,
@@ -202,16 +225,25 @@ def model_curves(key: str, zmax: float) -> dict:
         "w": w,
         "history": history,
         "bao": bao,
+        "hubble_over_1pz": hubble_over_1pz,
         "a": budget["a"],
         "omega": budget["omega"],
         "rho": budget["rho"],
         # what the log-scale density plot draws (negative densities have no point there)
         "rho_positive": {k: np.where(np.asarray(v) > 0, v, np.nan) for k, v in budget["rho"].items()},
+        "rho_guides": budget["guides"],
+        "guide_a": budget["guide_a"],
     })
+    epochs = _plain(model.epochs(cosmo))
+    theta = acoustic.get("theta_star")
     return {
         "params": _plain(_resolved_parameters(cosmo)),
-        "epochs": _plain(model.epochs(cosmo)),
+        "epochs": epochs,
+        "epoch_a": _epoch_scale_factors(epochs),
         "acoustic": _plain(acoustic),
+        # θ* as the acoustic table shows it: in degrees, and 100 θ* in radians
+        "theta_star_shown": _plain({"degrees": math.degrees(theta) if theta is not None else None,
+                                    "hundred_rad": 100.0 * theta if theta is not None else None}),
         **curves,
     }
 

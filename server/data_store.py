@@ -33,6 +33,7 @@ from __future__ import annotations
 
 import datetime as dt
 import hashlib
+import importlib.resources
 import logging
 import math
 from dataclasses import dataclass, fields
@@ -53,7 +54,8 @@ __all__ = ["DataError", "DataNotFound", "DataRejected", "DataUnavailable", "Data
 
 logger = logging.getLogger(__name__)
 
-DEMO_PATH = Path(__file__).resolve().parent.parent / "data" / "demo_synthetic.csv"
+# package data (pyproject's package-data), so an installed copy and the container have it
+DEMO_PATH = importlib.resources.files("server").joinpath("demo", "demo_synthetic.csv")
 # A covariance of a few hundred rows is tens of kB; 4 MiB (about 500 x 500 entries of 16
 # characters) keeps one stored set small (judgement, no source).
 MAX_COVARIANCE_BYTES = 4 << 20
@@ -371,5 +373,5 @@ def load(digest: str) -> StoredData:
 
 
 def demo_bytes() -> bytes:
-    """The synthetic demo table shipped in ``data/`` (made by scripts/make_demo_data.py)."""
+    """The synthetic demo table shipped in ``server/demo/`` (made by scripts/make_demo_data.py)."""
     return DEMO_PATH.read_bytes()

@@ -245,21 +245,26 @@ def _bounded(key: str, low: float, high: float, what: str) -> Callable[[str], An
     return parse
 
 
+def _redshift_values(key: str, parts: list[str], low: float, what: str):
+    """The numbers of `parts`, each low ≤ z ≤ Z_MAX, or a `Refusal` for the first that is not."""
+    values = []
+    for part in parts:
+        value = parse_number(part)
+        if isinstance(value, Refusal):
+            return Refusal(f"{key}: {value}; expected {what}")
+        if not low <= value <= Z_MAX:
+            return Refusal(f"{key}: z = {format_number(value)} is outside the model's range; expected {what}")
+        values.append(value)
+    return tuple(values)
+
+
 def _redshift_list(raw: str):
     what = (f"up to {MAX_TABLE_REDSHIFTS} comma-separated redshifts, each "
             f"{format_number(Z_MIN)} ≤ z ≤ {format_number(Z_MAX)}")
     parts = raw.split(",") if raw.strip() else []
     if not parts or len(parts) > MAX_TABLE_REDSHIFTS:
         return Refusal(f"z: {len(parts)} values given; expected {what}")
-    values = []
-    for part in parts:
-        value = parse_number(part)
-        if isinstance(value, Refusal):
-            return Refusal(f"z: {value}; expected {what}")
-        if not Z_MIN <= value <= Z_MAX:
-            return Refusal(f"z: z = {format_number(value)} is outside the model's range; expected {what}")
-        values.append(value)
-    return tuple(values)
+    return _redshift_values("z", parts, Z_MIN, what)
 
 
 def _survey_range(raw: str):
@@ -267,17 +272,10 @@ def _survey_range(raw: str):
     parts = raw.split(",") if raw.strip() else []
     if len(parts) != 2:
         return Refusal(f"zs: {len(parts)} values given; expected {what}")
-    values = []
-    for part in parts:
-        value = parse_number(part)
-        if isinstance(value, Refusal):
-            return Refusal(f"zs: {value}; expected {what}")
-        if not 0.0 <= value <= Z_MAX:
-            return Refusal(f"zs: z = {format_number(value)} is outside the model's range; expected {what}")
-        values.append(value)
-    if not values[0] < values[1]:
+    values = _redshift_values("zs", parts, 0.0, what)
+    if not isinstance(values, Refusal) and not values[0] < values[1]:
         return Refusal(f"zs: {raw!r} is not an increasing pair; expected {what}")
-    return tuple(values)
+    return values
 
 
 def _numbers(values) -> str:

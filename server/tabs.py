@@ -20,7 +20,7 @@ __all__ = ["Tab", "TABS", "TAB_KEYS", "TAB_TITLES", "tab"]
 @dataclass(frozen=True)
 class Tab:
     """One panel: its link key, its title on screen, and ``module:function`` of its builder
-    (``builder(comparison) -> PanelSpec``)."""
+    (``builder(comparison) -> layouts.specs.PanelSpec``)."""
 
     key: str
     title: str
@@ -33,13 +33,13 @@ class Tab:
 
 
 TABS: tuple[Tab, ...] = (
-    Tab("budget", "Energy budget", "server.panels:_budget"),
-    Tab("distances", "Distances", "server.panels:_distances"),
-    Tab("time", "Time", "server.panels:_time"),
-    Tab("volume", "Volume", "server.panels:_volume"),
-    Tab("acoustic", "Acoustic scales", "server.panels:_acoustic"),
-    Tab("table", "Table", "server.panels:_table"),
-    Tab("data", "Data", "server.panels:_data"),
+    Tab("budget", "Energy budget", "server.views.budget:build"),
+    Tab("distances", "Distances", "server.views.distances:build"),
+    Tab("time", "Time", "server.views.time:build"),
+    Tab("volume", "Volume", "server.views.volume:build"),
+    Tab("acoustic", "Acoustic scales", "server.views.acoustic:build"),
+    Tab("table", "Table", "server.views.table:build"),
+    Tab("data", "Data", "server.views.data:build"),
 )
 TAB_KEYS = tuple(t.key for t in TABS)
 TAB_TITLES = {t.key: t.title for t in TABS}

@@ -63,6 +63,12 @@ def test_shared_four_model_link_shows_labels_and_table_values(dash_duo, app_fact
     for key in ("luminosity_distance", "age", "comoving_volume"):
         for value in expected[key]:
             dash_duo.wait_for_contains_text("#fd-panel", number(value, 6))
+    # the quantities are grouped under the registry's theme headings, in its order
+    headings = [h for t, h in model.THEMES.items() if any(q.theme == t for q in model.QUANTITIES.values())]
+    for heading in headings:
+        dash_duo.wait_for_contains_text("#fd-panel", heading)
+    text = dash_duo.find_element("#fd-panel").text
+    assert [text.index(h) for h in headings] == sorted(text.index(h) for h in headings)
     assert len(dash_duo.find_elements(".fd-card")) == 4
     assert dash_duo.get_logs() == []
 

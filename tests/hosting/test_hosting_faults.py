@@ -139,14 +139,17 @@ def test_a_worker_killed_under_load_fails_only_its_requests_and_is_replaced():
         results: list[int | str] = []
         stop = threading.Event()
 
-        def client():
+        failed_by = [0] * 6
+
+        def client(number):
             while not stop.is_set():
                 try:
                     results.append(get(server.port, QUERY, timeout=10)[0])
                 except (OSError, http.client.HTTPException) as err:  # a reply cut off by the kill
                     results.append(type(err).__name__)
+                    failed_by[number] += 1
 
-        threads = [threading.Thread(target=client) for _ in range(6)]
+        threads = [threading.Thread(target=client, args=(n,)) for n in range(6)]
         for t in threads:
             t.start()
         time.sleep(1.0)
@@ -165,6 +168,7 @@ def test_a_worker_killed_under_load_fails_only_its_requests_and_is_replaced():
         after = server.worker_pids()
         assert victim not in after and len(after) == 2  # the master replaced it
         failures = [r for r in results if r != 200]
-        # a sync worker answers one request at a time: at most the one it was serving fails
-        assert len(failures) <= 1, failures
+        # a threaded worker (gunicorn.conf.py) serves several requests at once: only those in
+        # flight on it when it died fail, at most one per client (each has one request out)
+        assert len(failures) <= len(threads) and max(failed_by) <= 1, (failures, failed_by)
         assert len(results) >= settled + 40 and all(r == 200 for r in results[settled + 6:])

@@ -129,8 +129,8 @@ def test_constraints_pin_exactly_the_installed_runtime_dependencies_and_readme_l
             name, version = line.split("==")
             pins[re.sub(r"[-_.]+", "-", name).lower()] = version
     # the runtime closure of the image's install, walked through the installed metadata
-    closure, todo = {}, ["numpy", "scipy", "dash", "plotly", "flask-caching", "gunicorn", "redis", "sqlalchemy",
-                        "psycopg", "psycopg-binary"]  # the last two: the postgres extra
+    closure, todo = {}, ["numpy", "scipy", "dash", "dash-ag-grid", "plotly", "flask-caching", "gunicorn", "redis",
+                        "sqlalchemy", "psycopg", "psycopg-binary"]  # the last two: the postgres extra
     while todo:
         name = re.sub(r"[-_.]+", "-", todo.pop()).lower()
         if name in closure:

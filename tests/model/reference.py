@@ -545,7 +545,7 @@ class RefCosmology:
         return self.hubble_distance * self._integral(self._sound_integrand, 0, a)
 
     def time_at_scale_factor(self, a):
-        """Time since the big bang [Gyr] at scale factor a (a may exceed 1, up to inf)."""
+        """Cosmic time t [Gyr] at scale factor a (a may exceed 1, up to inf)."""
         return self.hubble_time * self._integral(self._time_integrand, 0, a)
 
     # ---- every quantity of evaluate()

@@ -111,7 +111,7 @@ def test_derived_parameters(name):
         ("omega_r", refc.omega_r),
         ("omega_nu", refc.omega_nu),
         ("omega_cb", refc.omega_cb),
-        ("omega_cdm", refc.omega_cb - refc.omega_baryon),
+        ("omega_cold_dark_matter", refc.omega_cb - refc.omega_baryon),
         ("omega_de", refc.omega_de),
         ("h", refc.h),
         ("hubble_distance", refc.hubble_distance),

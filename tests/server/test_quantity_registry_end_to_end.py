@@ -10,7 +10,9 @@ import numpy as np
 import pytest
 
 import model
-from server import codec, panels
+from server import codec
+from server.views.comparison import compare
+from server.views.downloads import panel_csv
 
 # A model no other test uses, so no memo from an earlier test can answer for it.
 QUERY = "m1.label=Registry%20probe&m1.h0=71.2345&m1.om=1&m1.ob=0.04&m1.tcmb=0&m1.mnu=&z=0.5,3"
@@ -40,7 +42,7 @@ def test_api_answer_carries_the_new_quantity(probe, client):
 def test_table_panel_csv_carries_the_new_quantity(probe, app_factory):
     app = app_factory(CACHE_TYPE="SimpleCache")
     with app.server.app_context():  # the memo layer is the app's
-        text = panels.panel_csv(panels.compare(codec.decode(QUERY)), "table")
+        text = panel_csv(compare(codec.decode(QUERY)), "table")
     rows = [r for r in csv.reader(io.StringIO(text)) if r and r[0].startswith("t_probe")]
     assert len(rows) == 2, text[:2000]
     np.testing.assert_allclose([float(r[2]) for r in rows], probe, rtol=1e-5)  # table cells: 6 digits

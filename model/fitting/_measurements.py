@@ -11,7 +11,7 @@ kind       yes      one of :data:`MEASUREMENT_KINDS`
 value      yes      the measured number, in the unit of its kind
 error      yes      its 1-sigma uncertainty, same unit, > 0
 label      no       free text (at most ``max_cell_chars`` characters)
-z_helio    no       heliocentric redshift, ``distance_modulus`` rows only
+z_helio    no       heliocentric redshift, rows of a heliocentric kind only
 group      no       a name shared by exactly two rows whose errors correlate
 correlation no      their correlation coefficient, -1 < r < 1 (both rows)
 ========== ======== ==========================================================
@@ -22,11 +22,13 @@ square root of its diagonal).
 
 Parsing is all or nothing. Every refusal is a :class:`MeasurementFormatError`
 that names the file, the line (1-based, counting every physical line) and the
-column (1-based cell number) at fault. Errors, drawn as a tree::
+column (1-based cell number) at fault. Lines and cells are read by
+:func:`model.fitting.read_rows` (UTF-8, quoted cells as in RFC 4180). Errors, drawn as a tree::
 
     ValueError
-    └── ModelError                    (model._errors)
-        └── MeasurementFormatError    a file breaks the format; .source, .line, .column
+    └── ModelError                        (model._errors)
+        └── TableFormatError              (model.fitting._rows) .source, .line, .column
+            └── MeasurementFormatError    a measurement or covariance file breaks the format
 """
 
 import dataclasses
@@ -36,10 +38,10 @@ import re
 import numpy as np
 from scipy.linalg import lapack
 
-from ._errors import ModelError
+from ._kinds import MEASUREMENT_KINDS
+from ._rows import TableFormatError, read_rows
 
 __all__ = [
-    "MEASUREMENT_KINDS",
     "MEASUREMENT_COLUMNS",
     "MeasurementFormatError",
     "MeasurementLimits",
@@ -47,19 +49,6 @@ __all__ = [
     "parse_measurements",
     "read_measurements",
 ]
-
-#: kind -> (unit, description). Every kind's value is compared with the model's
-#: prediction at the row's redshift.
-MEASUREMENT_KINDS = {
-    "distance_modulus": ("mag", "supernova distance modulus mu; absolute-magnitude offset free"),
-    "luminosity_distance": ("Mpc", "luminosity distance D_L"),
-    "angular_diameter_distance": ("Mpc", "angular-diameter distance D_A"),
-    "comoving_distance": ("Mpc", "line-of-sight comoving distance D_C"),
-    "dm_over_rd": ("1", "transverse comoving distance over the sound horizon at drag, D_M/r_d"),
-    "dh_over_rd": ("1", "Hubble distance c/H(z) over the sound horizon at drag, D_H/r_d"),
-    "dv_over_rd": ("1", "volume-averaged distance over the sound horizon at drag, D_V/r_d"),
-    "hubble_parameter": ("km/s/Mpc", "expansion rate H(z)"),
-}
 
 #: column name -> required?
 MEASUREMENT_COLUMNS = {
@@ -83,38 +72,14 @@ _DIAGONAL_TOLERANCE = 1.0e-2
 # ASCII decimal numbers only: float() alone would also take "1_0", "nan" and non-ASCII digits.
 _NUMBER = re.compile(r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
 _NOT_FINITE = {"nan", "+nan", "-nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"}
-# Characters refused anywhere: C0 controls except tab, DEL, C1 controls.
-_CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f]")
 
 
-class MeasurementFormatError(ModelError):
+class MeasurementFormatError(TableFormatError):
     """A measurement or covariance file breaks the format; nothing was loaded.
 
-    Attributes
-    ----------
-    source : str
-        ``"measurements"`` or ``"covariance"``: which file is at fault.
-    line : int
-        1-based physical line number in that file.
-    column : int
-        1-based cell number on that line (for a problem between cells, the
-        cell it falls in; for a missing cell, the position it should have).
-    column_name : str or None
-        Header name of that column, where there is one.
-    reason : str
-        What is wrong and how to put it right.
+    ``source`` is ``"measurements"`` or ``"covariance"``; ``line``, ``column``,
+    ``column_name`` and ``reason`` as in :class:`~model.fitting.TableFormatError`.
     """
-
-    def __init__(self, source, line, column, reason, column_name=None):
-        self.source = source
-        self.line = int(line)
-        self.column = int(column)
-        self.column_name = column_name
-        self.reason = reason
-        where = f"{source} file, line {self.line}, column {self.column}"
-        if column_name:
-            where += f" ({column_name})"
-        super().__init__(f"{where}: {reason}")
 
 
 @dataclasses.dataclass(frozen=True)
@@ -197,115 +162,25 @@ class MeasurementSet:
         present = set(self.kind.tolist())
         return tuple(k for k in MEASUREMENT_KINDS if k in present)
 
-    def mask(self, kind):
-        """Boolean row mask of one kind (read-only)."""
-        if kind not in MEASUREMENT_KINDS:
-            raise ValueError(f"kind: unknown {kind!r}; expected one of {', '.join(MEASUREMENT_KINDS)}")
-        return _frozen(self.kind == kind)
-
     def __repr__(self):
         counts = ", ".join(f"{k}: {int(np.sum(self.kind == k))}" for k in self.kinds_present)
         return f"MeasurementSet(n={len(self)}, {{{counts}}}, covariance={self.covariance_source!r})"
 
 
 # --------------------------------------------------------------------------------------------
-# Low-level reading: bytes -> decoded lines, each with its line number
-
-
-def _split_lines(data, source, max_bytes):
-    """Yield (line_number, text) for every physical line; refuse size, encoding, controls."""
-    if isinstance(data, str):
-        data = data.encode("utf-8", "surrogatepass")
-    elif not isinstance(data, (bytes, bytearray, memoryview)):
-        raise TypeError(f"{source}: expected bytes or str, got {type(data).__name__}")
-    data = bytes(data)
-    if len(data) > max_bytes:
-        line = data.count(b"\n", 0, max_bytes) + 1
-        raise MeasurementFormatError(
-            source, line, 1, f"the file is larger than the limit of {max_bytes} bytes; "
-            "the limit is reached on this line")
-    if data.startswith(b"\xef\xbb\xbf"):
-        data = data[3:]
-    for number, raw in enumerate(data.split(b"\n"), start=1):
-        if raw.endswith(b"\r"):
-            raw = raw[:-1]
-        try:
-            text = raw.decode("utf-8")
-        except UnicodeDecodeError as exc:
-            prefix = raw[: exc.start].decode("utf-8", "replace")
-            raise MeasurementFormatError(
-                source, number, _cell_index(prefix),
-                f"byte 0x{raw[exc.start]:02x} at character {len(prefix) + 1} is not UTF-8; "
-                "save the file as UTF-8 text (a binary file or another encoding was given)") from None
-        bad = _CONTROL.search(text)
-        if bad:
-            char = bad.group()
-            what = "a NUL byte: this looks like a binary file" if char == "\x00" else \
-                f"control character U+{ord(char):04X}"
-            raise MeasurementFormatError(
-                source, number, _cell_index(text[: bad.start()]),
-                f"character {bad.start() + 1}: {what}; only plain text is accepted")
-        yield number, text
-
-
-def _split_cells(text, source, number):
-    """Split one line on commas; a cell may be wrapped in double quotes ("" is a quote)."""
-    cells = []
-    i, n = 0, len(text)
-    while True:
-        while i < n and text[i] in " \t":
-            i += 1
-        if i < n and text[i] == '"':
-            i += 1
-            chunk = []
-            while True:
-                j = text.find('"', i)
-                if j < 0:
-                    raise MeasurementFormatError(
-                        source, number, len(cells) + 1, "a quoted cell is not closed; add the closing \"")
-                chunk.append(text[i:j])
-                if j + 1 < n and text[j + 1] == '"':
-                    chunk.append('"')
-                    i = j + 2
-                    continue
-                i = j + 1
-                break
-            cell = "".join(chunk)
-            while i < n and text[i] in " \t":
-                i += 1
-            if i < n and text[i] != ",":
-                raise MeasurementFormatError(
-                    source, number, len(cells) + 1,
-                    "text follows a closing quote; put a comma after the quoted cell")
-        else:
-            j = text.find(",", i)
-            j = n if j < 0 else j
-            cell = text[i:j].strip(" \t")
-            i = j
-        cells.append(cell)
-        if i >= n:
-            return cells
-        i += 1  # the comma
-
-
-def _cell_index(prefix):
-    """1-based cell number at the end of ``prefix`` (quote-aware count of separating commas)."""
-    inside, count = False, 1
-    for char in prefix:
-        if char == '"':
-            inside = not inside
-        elif char == "," and not inside:
-            count += 1
-    return count
+# Rows and numbers
 
 
 def _content_lines(data, source, max_bytes):
-    """Non-blank, non-comment lines as (line_number, cells)."""
-    for number, text in _split_lines(data, source, max_bytes):
-        stripped = text.strip(" \t")
-        if not stripped or stripped.startswith("#"):
-            continue
-        yield number, _split_cells(text, source, number)
+    """Non-blank, non-comment lines as (line_number, cells); reading faults re-raised as
+    :class:`MeasurementFormatError`."""
+    try:
+        yield from read_rows(data, source, max_bytes=max_bytes)
+    except MeasurementFormatError:
+        raise
+    except TableFormatError as err:
+        raise MeasurementFormatError(err.source, err.line, err.column, err.reason,
+                                     err.column_name) from None
 
 
 def _number(cell, source, number, column, name=None):
@@ -381,20 +256,22 @@ def _read_row(number, cells, columns, source, limits):
     if kind not in MEASUREMENT_KINDS:
         fail("kind", f"unknown kind {cell_of('kind')!r}; the kinds are {', '.join(MEASUREMENT_KINDS)}")
     z = _number(cell_of("z"), source, number, columns["z"] + 1, "z")
-    lowest_ok = 0.0 <= z if kind == "hubble_parameter" else 0.0 < z
+    spec = MEASUREMENT_KINDS[kind]
+    lowest_ok = 0.0 <= z if spec.zero_redshift else 0.0 < z
     if not (lowest_ok and z <= _Z_MAX):
-        low = "0 <= z" if kind == "hubble_parameter" else "0 < z"
+        low = "0 <= z" if spec.zero_redshift else "0 < z"
         fail("z", f"redshift {z:g} outside {low} <= {_Z_MAX:g} for kind {kind}")
     value = _number(cell_of("value"), source, number, columns["value"] + 1, "value")
-    if kind != "distance_modulus" and value <= 0.0:
+    if spec.positive and value <= 0.0:
         fail("value", f"a {kind} must be positive, got {value:g}")
     error = _number(cell_of("error"), source, number, columns["error"] + 1, "error")
     if not error > 0.0:
         fail("error", f"the error must be positive, got {error:g}")
     z_helio = z
     if cell_of("z_helio"):
-        if kind != "distance_modulus":
-            fail("z_helio", f"z_helio applies to distance_modulus rows only, this row is {kind}")
+        if not spec.heliocentric:
+            allowed = ", ".join(k for k, v in MEASUREMENT_KINDS.items() if v.heliocentric)
+            fail("z_helio", f"z_helio applies to {allowed} rows only, this row is {kind}")
         z_helio = _number(cell_of("z_helio"), source, number, columns["z_helio"] + 1, "z_helio")
         if not 0.0 < z_helio <= _Z_MAX:
             fail("z_helio", f"heliocentric redshift {z_helio:g} outside 0 < z_helio <= {_Z_MAX:g}")

@@ -1,4 +1,4 @@
-"""A published analysis: flat LambdaCDM fitted to the DESI 2024 DR1 BAO measurements.
+"""A published analysis: flat ΛCDM fitted to the DESI 2024 DR1 BAO measurements.
 
 Data: DESI Collaboration 2024, "DESI 2024 III: Baryon Acoustic Oscillations from Galaxies and
 Quasars", arXiv:2404.03000, Table 18 (D_V/r_d, D_M/r_d, D_H/r_d and the D_M-D_H correlation
@@ -7,7 +7,7 @@ arXiv:2404.03001. All numbers below are entered FROM MEMORY (no copy of the tabl
 hand); they may be off in the last digit.
 
 Result to recover: "DESI 2024 VI: Cosmological Constraints from the Measurements of Baryon
-Acoustic Oscillations", arXiv:2404.03002, DESI BAO alone, flat LambdaCDM:
+Acoustic Oscillations", arXiv:2404.03002, DESI BAO alone, flat ΛCDM:
 Omega_m = 0.295 +- 0.015 and h r_d = (101.8 +- 1.3) Mpc (also from memory). Those are
 posterior means and widths of a Bayesian analysis; ours is the least-squares best fit with
 Gauss-Newton errors, and the data are remembered, so the tolerances are a third of the

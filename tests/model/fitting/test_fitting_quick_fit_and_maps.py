@@ -1,4 +1,4 @@
-"""quick_fit and chi2_map of model._fit.
+"""quick_fit and chi2_map of model.fitting.
 
 References: noiseless data must be fitted exactly (chi^2_min = 0 at the true parameters, the
 definition of a least-squares estimate); the Gauss-Newton covariance (J^T J)^-1 must equal
@@ -6,25 +6,22 @@ definition of a least-squares estimate); the Gauss-Newton covariance (J^T J)^-1 
 15.5), here taken by central finite differences of chi^2 from model.evaluate; parameter pulls
 (fit - truth)/sigma over noisy realisations are standard normal for a well-constrained
 Gaussian problem (Cramer-Rao; e.g. Press et al. section 15.6); one parameter's Delta chi^2 = 1
-marks its 1-sigma interval (Press et al. section 15.6); the two-parameter levels are the
-chi^2 quantiles of scipy.stats.
+marks its 1-sigma interval (Press et al. section 15.6); the two-parameter levels follow the
+closed form delta chi^2 = -2 ln(1 - p) (Press et al. section 15.6).
 """
 
 import math
 
 import numpy as np
 import pytest
-from scipy import stats
 
-from measurement_tables import table_text
+from measurement_tables import BAO_DISTANCE, table_text
 from model import (CONFIDENCE_LEVELS_2D, Cosmology, FitError, Nuisances, acoustic_scales,
                    chi2_map, evaluate, goodness_of_fit, parse_measurements, quick_fit)
 
 TRUE = Cosmology(h0=69.0, omega_m=0.31, w0=-0.9, wa=-0.3, label="truth")
 R_D = 147.5  # Mpc, for data made with r_d fixed
 OFFSET = 0.37  # mag
-KEY = {"dm_over_rd": "transverse_comoving_distance", "dh_over_rd": "hubble_distance_at_z",
-       "dv_over_rd": "volume_averaged_distance"}
 
 
 def make_rows(truth, rng=None, n_sn=120, r_d=R_D, offset=OFFSET, sn_error=0.12, bao_frac=0.01,
@@ -36,7 +33,7 @@ def make_rows(truth, rng=None, n_sn=120, r_d=R_D, offset=OFFSET, sn_error=0.12, 
     z_b = [0.3, 0.5, 0.5, 0.8, 0.8, 1.2, 1.2, 2.3, 2.3]
     kinds = ["dv_over_rd", "dm_over_rd", "dh_over_rd"] + ["dm_over_rd", "dh_over_rd"] * 3
     for z, kind in zip(z_b, kinds):
-        value = float(evaluate(truth, z)[KEY[kind]]) / r_d
+        value = float(evaluate(truth, z)[BAO_DISTANCE[kind]]) / r_d
         rows.append({"z": z, "kind": kind, "value": value, "error": bao_frac * value})
     if hubble:
         for z in (0.0, 0.4, 1.0, 1.8):
@@ -184,12 +181,17 @@ def test_map_delta_chi2_of_one_is_the_conditional_one_sigma_of_the_fit():
     np.testing.assert_allclose(m.chi2[0] - m.chi2[0, 1], [1.0, 0.0, 1.0], atol=0.03)
 
 
-def test_two_parameter_levels_are_the_chi2_quantiles():
-    # 68.27 % and 95.45 % of a chi^2 with 2 degrees of freedom (scipy.stats)
-    (p68, d68), (p95, d95) = CONFIDENCE_LEVELS_2D
-    assert (p68, p95) == (0.68, 0.95)
-    assert d68 == pytest.approx(stats.chi2.ppf(0.6827, 2), abs=0.005)
-    assert d95 == pytest.approx(stats.chi2.ppf(0.9545, 2), abs=0.005)
+def test_two_parameter_levels_are_the_gaussian_one_and_two_sigma_regions():
+    # Press et al., Numerical Recipes, 3rd ed. 2007, section 15.6: for two parameters the
+    # region of probability p is delta chi^2 < -2 ln(1 - p) (chi^2 of 2 dof, closed form),
+    # 2.30 and 6.18 at the Gaussian 1 and 2 sigma probabilities 68.27 % and 95.45 %.
+    (p1, d1), (p2, d2) = CONFIDENCE_LEVELS_2D
+    assert p1 == pytest.approx(math.erf(1 / math.sqrt(2)), rel=1e-15)
+    assert p2 == pytest.approx(math.erf(2 / math.sqrt(2)), rel=1e-15)
+    assert (round(100 * p1, 1), round(100 * p2, 1)) == (68.3, 95.4)
+    assert d1 == pytest.approx(-2 * math.log(1 - p1), rel=1e-12)
+    assert d2 == pytest.approx(-2 * math.log(1 - p2), rel=1e-12)
+    assert (round(d1, 2), round(d2, 2)) == (2.30, 6.18)
 
 
 def test_a_parameter_outside_its_bounds_is_reported_at_the_bound():

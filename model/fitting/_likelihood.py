@@ -32,10 +32,10 @@ import math
 import numpy as np
 from scipy import linalg, stats
 
-from ._acoustic import acoustic_scales
-from ._constants import SPEED_OF_LIGHT_KM_S
-from ._distances import evaluate
-from ._measurements import MEASUREMENT_KINDS, _frozen
+from .._acoustic import acoustic_scales
+from .._distances import evaluate
+from ._kinds import MEASUREMENT_KINDS, PREDICTIONS, kinds_with
+from ._measurements import _frozen
 
 __all__ = [
     "Nuisances",
@@ -45,8 +45,6 @@ __all__ = [
     "compare_models",
 ]
 
-SUPERNOVA_KIND = "distance_modulus"
-BAO_KINDS = ("dm_over_rd", "dh_over_rd", "dv_over_rd")
 
 
 @dataclasses.dataclass(frozen=True)
@@ -108,41 +106,22 @@ def observable_parts(data, hubble, comoving, transverse):
 
     Notes
     -----
-    D_A = D_M/(1+z), D_L = (1+z) D_M, mu = 5 log10(D_L / 10 pc) (Hogg 1999,
-    arXiv:astro-ph/9905116, sections 6, 7, 8); for supernovae
-    D_L = (1+z_helio) D_M(z) (Davis et al. 2011, ApJ 741, 67, from memory).
-    D_H = c/H and D_V = [z D_M^2 D_H]^(1/3) (Eisenstein et al. 2005, ApJ 633, 560).
+    Each row's kind names its quantity (:data:`~model.MEASUREMENT_KINDS`), formed from
+    the three distances by :data:`~model.fitting.PREDICTIONS` (Hogg 1999,
+    arXiv:astro-ph/9905116, sections 5 to 8; Eisenstein et al. 2005, ApJ 633, 560).
     """
     hubble, comoving, transverse = np.broadcast_arrays(
         np.atleast_2d(hubble), np.atleast_2d(comoving), np.atleast_2d(transverse))
     base = np.zeros(hubble.shape)
     bao = np.zeros(hubble.shape)
     with np.errstate(divide="ignore", invalid="ignore"):
-        for kind in data.kinds_present:
-            rows = _selector(data.kind == kind)
-            z = data.z[rows]
-            d_m = transverse[:, rows]
-            if kind == "distance_modulus":
-                mu = np.log10(d_m * (1.0 + data.z_helio[rows]))
-                mu *= 5.0
-                mu += 25.0
-                base[:, rows] = mu
-            elif kind == "luminosity_distance":
-                base[:, rows] = (1.0 + z) * d_m
-            elif kind == "angular_diameter_distance":
-                base[:, rows] = d_m / (1.0 + z)
-            elif kind == "comoving_distance":
-                base[:, rows] = comoving[:, rows]
-            elif kind == "hubble_parameter":
-                base[:, rows] = hubble[:, rows]
-            elif kind == "dm_over_rd":
-                bao[:, rows] = d_m
-            elif kind == "dh_over_rd":
-                bao[:, rows] = SPEED_OF_LIGHT_KM_S / hubble[:, rows]
-            elif kind == "dv_over_rd":
-                bao[:, rows] = np.cbrt(z * d_m**2 * SPEED_OF_LIGHT_KM_S / hubble[:, rows])
-            else:  # pragma: no cover - MEASUREMENT_KINDS and this table change together
-                raise AssertionError(kind)
+        for key in data.kinds_present:
+            kind = MEASUREMENT_KINDS[key]
+            rows = _selector(data.kind == key)
+            predicted = PREDICTIONS[kind.quantity](
+                data.z[rows], data.z_helio[rows], hubble[:, rows], comoving[:, rows],
+                transverse[:, rows])
+            (bao if kind.nuisance == "r_d" else base)[:, rows] = predicted
     return base, bao
 
 
@@ -206,8 +185,8 @@ def profile_nuisances(data, base, bao, r_d, offset):
     on whitened arrays (e.g. Press et al., Numerical Recipes, 3rd ed. 2007,
     section 15.4).
     """
-    supernova = data.kind == SUPERNOVA_KIND
-    acoustic = np.isin(data.kind, BAO_KINDS)
+    supernova = np.isin(data.kind, kinds_with("offset"))
+    acoustic = np.isin(data.kind, kinds_with("r_d"))
     n_sets = base.shape[0]
     prediction = base.copy()
     columns, names = [], []
@@ -349,7 +328,7 @@ class GoodnessOfFit:
         for kind in self.data.kinds_present:
             rows = self.data.kind == kind
             out[kind] = KindResiduals(
-                kind=kind, unit=MEASUREMENT_KINDS[kind][0], z=self.data.z[rows],
+                kind=kind, unit=MEASUREMENT_KINDS[kind].unit, z=self.data.z[rows],
                 value=self.data.value[rows], error=self.data.error[rows],
                 prediction=self.prediction[rows], residual=self.residual[rows],
                 pull=self.pull[rows], label=tuple(np.asarray(self.data.label, dtype=object)[rows]))
@@ -365,7 +344,7 @@ def _resolve(nuisances, cosmo, data):
     if nuisances.r_d == "free":
         r_d = None
     elif nuisances.r_d == "model":
-        needs = np.isin(data.kind, BAO_KINDS).any()
+        needs = np.isin(data.kind, kinds_with("r_d")).any()
         r_d = acoustic_scales(cosmo)["r_drag"] if needs else np.nan
     else:
         r_d = float(nuisances.r_d)

@@ -13,7 +13,7 @@ import numpy as np
 import pytest
 from scipy import integrate, linalg, optimize
 
-from measurement_tables import measurement_set, table_text
+from measurement_tables import BAO_DISTANCE, measurement_set, table_text
 from model import (Cosmology, Nuisances, compare_models, evaluate, goodness_of_fit,
                    parse_measurements)
 
@@ -80,9 +80,7 @@ def bao_rows(rng, cosmo, r_d, noise=True):
     kinds = ["dv_over_rd", "dm_over_rd", "dh_over_rd", "dm_over_rd", "dh_over_rd", "dv_over_rd",
              "dh_over_rd"]
     q = evaluate(cosmo, z)
-    key = {"dv_over_rd": "volume_averaged_distance", "dm_over_rd": "transverse_comoving_distance",
-           "dh_over_rd": "hubble_distance_at_z"}
-    value = np.array([q[key[k]][i] for i, k in enumerate(kinds)]) / r_d
+    value = np.array([q[BAO_DISTANCE[k]][i] for i, k in enumerate(kinds)]) / r_d
     error = 0.02 * value
     if noise:
         value = value + rng.normal(0.0, error)
@@ -95,9 +93,7 @@ def test_free_r_d_is_the_profile_minimum():
     data = measurement_set(z, kinds, value, error)
     gof = goodness_of_fit(OTHER, data, Nuisances(r_d="free"))
     q = evaluate(OTHER, z)
-    key = {"dv_over_rd": "volume_averaged_distance", "dm_over_rd": "transverse_comoving_distance",
-           "dh_over_rd": "hubble_distance_at_z"}
-    distance = np.array([q[key[k]][i] for i, k in enumerate(kinds)])
+    distance = np.array([q[BAO_DISTANCE[k]][i] for i, k in enumerate(kinds)])
 
     def chi2_of(r_d):
         return float(np.sum(((value - distance / r_d) / error) ** 2))
@@ -182,7 +178,9 @@ def test_residuals_and_pulls_by_kind():
     for part in parts.values():
         np.testing.assert_allclose(part.residual, part.value - part.prediction, rtol=0, atol=1e-12)
         np.testing.assert_allclose(part.pull, part.residual / part.error, rtol=1e-14)
-        assert part.unit
+        # units of docs/measurements-format.md (CONVENTIONS: Mpc, mag, km/s/Mpc; ratios "")
+        assert part.unit == {"distance_modulus": "mag", "hubble_parameter": "km/s/Mpc"}.get(
+            part.kind, "" if part.kind.endswith("_over_rd") else "Mpc"), part.kind
     # the BAO rows at the truth with r_d = 147 Mpc carry only the 2 % noise drawn above
     assert np.all(np.abs(parts["dm_over_rd"].pull) < 5)
 

@@ -5,6 +5,10 @@ import numpy as np
 from model import parse_measurements
 
 HEADER = "z,kind,value,error,label,z_helio,group,correlation"
+#: The distance each BAO ratio divides by r_d, as model.evaluate keys (the BAO observables of
+#: Eisenstein et al. 2005, ApJ 633, 560: D_M/r_d, D_H/r_d with D_H = c/H(z), D_V/r_d).
+BAO_DISTANCE = {"dm_over_rd": "transverse_comoving_distance", "dh_over_rd": "hubble_distance_at_z",
+                "dv_over_rd": "volume_averaged_distance"}
 
 
 def table_text(rows):

@@ -1,0 +1,93 @@
+"""The data panel: the link's measurement set, each model's goodness of fit, and the residuals
+and pulls per measurement kind. The upload, fit and map tools are in `server.views.data_tools`."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from layouts.specs import FigureBlock, PanelSpec, TableBlock
+from server.views.comparison import (KIND_TITLES, SYNTHETIC_NOTE, Comparison, is_synthetic, kind_rows,
+                                     measurements, num, scores)
+from server.views.parts import failures_note
+
+__all__ = ["build"]
+
+METHOD = ("χ² = rᵀC⁻¹r with the full covariance; the supernova offset M is marginalised analytically "
+          "(Goliath et al. 2001; Conley et al. 2011), r_d is each model's own or minimised. The p-value is "
+          "P(χ²_dof ≥ χ²); Δχ² is against the reference model. AIC = χ² + 2k and BIC = χ² + k ln N are "
+          "shown once a fit with free parameters is in the link.")
+COVARIANCE_SOURCES = {"file": "covariance file", "pairs": "errors and correlated pairs", "diagonal": "errors only"}
+
+
+def _score_table(c: Comparison) -> TableBlock:
+    results = scores(c)
+    with_ic = c.state.view.fit is not None
+    ref_name = c.reference.name if c.reference else "reference"
+    header = (["model", "χ² [dimensionless]", "degrees of freedom [count]", "p-value [probability]",
+               f"Δχ² vs {ref_name} [dimensionless]", "free parameters k [count]"]
+              + (["AIC [dimensionless]", "BIC [dimensionless]"] if with_ic else [])
+              + ["r_d used [Mpc]", "supernova offset M [mag]"])
+    rows = []
+    for e in c.entries:
+        r = results.get(e.slot, {})
+        if "chi2" not in r:
+            rows.append([e.name, r.get("error", "–")] + ["–"] * (len(header) - 2))
+            continue
+        row = [e.name, num(r["chi2"]), str(r["dof"]), num(r["p_value"], 3), num(r["delta_chi2"], 5),
+               str(r["n_parameters"])]
+        if with_ic:
+            row += [num(r["aic"]), num(r["bic"])]
+        row += [num(r["r_d"], 6, "Mpc"), num(r["offset"], 4, "mag")]
+        rows.append(row)
+    return {"kind": "table", "title": "Goodness of fit", "header": header, "rows": rows}
+
+
+def _residual_figures(c: Comparison) -> list[FigureBlock]:
+    stored, _ = measurements(c)
+    results = scores(c)
+    d = stored.measurements
+    blocks = []
+    for kind in d.kinds_present:
+        rows = kind_rows(stored, kind)
+        title, unit = KIND_TITLES[kind]
+        labels = [d.label[i] for i in rows]
+        points, pulls = [], []
+        for e in c.entries:
+            r = results.get(e.slot, {})
+            if "residual" not in r:
+                continue
+            points.append({"name": e.name, "role": "residual", "slot": e.slot, "x": d.z[rows],
+                           "y": np.asarray(r["residual"])[rows], "error": d.error[rows], "text": labels})
+            pulls.append({"name": e.name, "role": "pull", "slot": e.slot, "x": d.z[rows],
+                          "y": np.asarray(r["pull"])[rows], "text": labels, "y_hover": "pull"})
+        z = d.z[rows]
+        blocks.append({"kind": "figure", "id": f"fd-fig-residual-{kind}", "spec": {
+            "title": f"Residuals of {title} ({rows.size} measurements): data − model, and pulls",
+            "x_title": "redshift z [dimensionless]", "x_hover": "z",
+            "x_log": bool(z.size and z.min() > 0 and z.max() / z.min() > 20),
+            "y_title": f"data − model [{unit or 'dimensionless'}]", "y_hover": "data − model", "unit": unit,
+            "series": [], "points": points, "strip": {"y_title": "pull [σ]", "series": pulls, "unit": "σ"}}})
+    return blocks
+
+
+def build(c: Comparison) -> PanelSpec:
+    stored, problem = measurements(c)
+    controls = [{"key": "rd", "kind": "dropdown", "label": "sound horizon r_d for the D/r_d measurements",
+                 "value": c.state.view.r_d, "options": [
+                     {"label": "each model's own r_drag", "value": "model"},
+                     {"label": "free (minimised for each model)", "value": "free"}]}]
+    if stored is None:
+        text = problem or ("No measurements in this link yet: upload or paste a table above, or load the "
+                           "synthetic demo data.")
+        return {"controls": controls,
+                "blocks": [{"kind": "text", "text": text, "tone": "error" if problem else "note"}]}
+    d = stored.measurements
+    counts = ", ".join(f"{int(np.sum(d.kind == k))} {KIND_TITLES[k][0]}" for k in d.kinds_present)
+    about = (f"Measurement set data={stored.hash}" + (f" ({stored.name})" if stored.name else "") +
+             f": {len(d)} rows ({counts}); covariance from {COVARIANCE_SOURCES[d.covariance_source]}.")
+    blocks = []
+    if is_synthetic(stored):
+        blocks.append({"kind": "text", "text": "These are " + SYNTHETIC_NOTE + ".", "tone": "error"})
+    blocks += [{"kind": "text", "text": about}, {"kind": "text", "text": METHOD}, _score_table(c)]
+    blocks += _residual_figures(c)
+    return {"controls": controls, "blocks": blocks + failures_note(c)}

@@ -1,0 +1,24 @@
+"""The open panel's spec (through the tab registry, `server.tabs`) and the page's options."""
+
+from __future__ import annotations
+
+from layouts.specs import PageOptions, PanelSpec
+from server import codec, tabs
+from server.views.comparison import Comparison
+from server.views.data_tools import data_tool_options
+from server.views.parts import failures_note
+
+__all__ = ["panel", "page_options"]
+
+
+def panel(c: Comparison, tab: str | None = None) -> PanelSpec:
+    """The spec of panel `tab` (the link's open panel by default)."""
+    if not c.entries:
+        return {"blocks": [{"kind": "text", "text": "No model can be drawn: fix the errors on the cards."}]
+                + failures_note(c)}
+    return tabs.tab(tab or c.state.view.tab).builder(c)
+
+
+def page_options() -> PageOptions:
+    return {"tabs": list(tabs.TAB_TITLES.items()), "zmax_range": f"0.01 ≤ z_max ≤ {codec.Z_MAX:g}",
+            "data_tools": data_tool_options()}

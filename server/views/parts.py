@@ -1,0 +1,75 @@
+"""Spec pieces several panels share: model curves, the strip against the reference, the
+redshift axis, one quantity's figure, the panel controls and the notes on failed models."""
+
+from __future__ import annotations
+
+import numpy as np
+
+import model
+from layouts.specs import Control, FigureBlock, Series, Strip, TextBlock
+from server import compute
+from server.views.comparison import Comparison, measurements
+
+__all__ = ["curve_series", "strip", "z_axis", "axis_title", "quantity_figure", "failures_note",
+           "measurement_note", "view_control"]
+
+
+def axis_title(key: str) -> str:
+    q = model.QUANTITIES[key]
+    return f"{q.description} [{q.unit or 'dimensionless'}]"
+
+
+def curve_series(c: Comparison, pick, x_pick=lambda cv: cv["z"]) -> list[Series]:
+    """One model curve per valid model: ``pick(curves)`` against ``x_pick(curves)``."""
+    return [{"name": e.name, "role": "model", "slot": e.slot, "x": x_pick(e.curves), "y": pick(e.curves)}
+            for e in c.entries]
+
+
+def strip(c: Comparison, pick, kind: str = "ratio", x_pick=lambda cv: cv["z"], unit: str = "") -> Strip | None:
+    """Each other model's ``pick(curves)`` divided by (``kind="ratio"``) or minus
+    (``"difference"``) the reference's; None with fewer than two models."""
+    if c.reference is None or len(c.entries) < 2:
+        return None
+    ref = np.asarray(pick(c.reference.curves), dtype=float)
+    series = []
+    with np.errstate(all="ignore"):
+        for e in c.entries:
+            if e is c.reference:
+                continue
+            y = np.asarray(pick(e.curves), dtype=float)
+            series.append({"name": e.name, "role": "model", "slot": e.slot, "x": x_pick(e.curves),
+                           "y": compute.round_significant(y / ref if kind == "ratio" else y - ref)})
+    return {"y_title": "ratio to ref." if kind == "ratio" else "minus ref.", "series": series, "unit": unit}
+
+
+def z_axis(c: Comparison) -> dict:
+    return {"x_title": "redshift z [dimensionless]", "x_hover": "z",
+            "x_log": c.state.view.zmax > compute.LINEAR_GRID_ZMAX}
+
+
+def quantity_figure(c: Comparison, key: str, title: str | None = None, kind: str = "ratio",
+                    y_log: bool = False) -> FigureBlock:
+    """One registered quantity (`model.QUANTITIES`) against redshift, with its strip."""
+    q = model.QUANTITIES[key]
+    spec = {"title": title or q.description, **z_axis(c), "y_title": axis_title(key), "y_hover": q.symbol,
+            "unit": q.unit, "y_log": y_log, "series": curve_series(c, lambda cv: cv["at"][key]),
+            "strip": strip(c, lambda cv: cv["at"][key], kind=kind, unit=q.unit if kind == "difference" else "")}
+    return {"kind": "figure", "spec": spec, "id": f"fd-fig-{key}"}
+
+
+def failures_note(c: Comparison) -> list[TextBlock]:
+    return [{"kind": "text", "text": f"not shown: {p.message}", "tone": "error"} for p in c.failures.values()]
+
+
+def measurement_note(c: Comparison) -> list[TextBlock]:
+    """Why the link's measurements are not drawn, when they cannot be loaded."""
+    problem = measurements(c)[1]
+    return [{"kind": "text", "text": f"Measurements: {problem}", "tone": "error"}] if problem else []
+
+
+def view_control(c: Comparison, key: str, label: str, range_text: str) -> Control:
+    """A text control for view key `key`: the link's value (or what was typed, when refused)
+    and the problem naming the key."""
+    error = next((p.message for p in c.state.view.problems() if p.key == key), None)
+    return {"key": key, "kind": "text", "label": label, "value": c.state.view.value_text(key),
+            "range": range_text, "error": error}

@@ -1,0 +1,68 @@
+"""How layouts draws the view specs: the look of each role (slot colours and dashes, component
+colours of Okabe & Ito 2008, dotted guides, data markers), crowded residuals, user text kept as
+text, and the data tools' texts built from the constants they describe."""
+
+from __future__ import annotations
+
+import numpy as np
+
+import model
+from layouts.data_panel import data_tools
+from layouts.figures import figure, small_multiples
+from layouts.palette import OKABE_ITO, slot_colour
+from server.views.data_tools import MAP_POINTS, data_tool_options
+
+
+def test_layouts_choose_the_look_from_the_roles():
+    x = np.array([1.0, 2.0, 3.0])
+    spec = {"title": "t", "x_title": "z", "y_title": "y", "x_hover": "z", "y_hover": "y", "unit": "Mpc",
+            "x_log": False, "strip": None,
+            "series": [{"name": "A", "role": "model", "slot": 2, "x": x, "y": x}],
+            "points": [{"name": ["data (offset ", {"value": 0.1234567, "digits": 3, "unit": "mag"}, ")"],
+                        "role": "data", "x": x, "y": x, "error": x, "text": ["<b>"] * 3}]}
+    curve, points = figure(spec)["data"]
+    assert curve["mode"] == "lines" and curve["line"]["color"] == slot_colour(2) and curve["line"]["dash"] == "dash"
+    assert points["mode"] == "markers" and points["name"] == "data (offset 0.123 mag)"
+    assert points["text"] == ["&lt;b&gt;"] * 3  # labels from a file stay text
+    budget = {"title": "t", "x_title": "a", "y_title": "Ω", "x_hover": "a", "x_log": True, "unit": "",
+              "panels": [{"title": "A", "slot": 1, "series": [
+                  {"name": "photons", "role": "component", "component": "photons", "slot": 1, "x": x, "y": x},
+                  {"name": "critical density", "role": "component", "component": "critical", "slot": 1, "x": x,
+                   "y": x},
+                  {"name": "slope", "role": "guide", "component": "photons", "slot": 1, "x": x, "y": x}]}]}
+    photons, critical, guide = small_multiples(budget)["data"]
+    # component colours from Okabe & Ito (2008), "Color Universal Design"
+    assert photons["line"]["color"] == OKABE_ITO["orange"] == "#E69F00"
+    assert critical["line"]["dash"] == "dash" and guide["line"]["dash"] == "dot"
+    assert guide["line"]["width"] < photons["line"]["width"]
+
+
+def test_crowded_residuals_are_lighter_and_pulls_stay_out_of_the_legend():
+    x = np.linspace(0.1, 1.0, 60)
+    residual = [{"name": f"m{s}", "role": "residual", "slot": s, "x": x, "y": x, "error": x} for s in (1, 2)]
+    pulls = [{"name": f"m{s}", "role": "pull", "slot": s, "x": x, "y": x} for s in (1, 2)]
+    spec = {"title": "r", "x_title": "z", "y_title": "d", "x_hover": "z", "y_hover": "d", "unit": "mag",
+            "x_log": False, "series": [], "points": residual, "strip": {"y_title": "pull", "series": pulls,
+                                                                        "unit": "σ"}}
+    traces = figure(spec)["data"]
+    assert [t["marker"]["opacity"] for t in traces] == [0.55] * 4
+    assert [t["showlegend"] for t in traces] == [True, True, False, False]
+    alone = figure({**spec, "points": residual[:1], "strip": None})["data"][0]
+    assert alone["marker"]["opacity"] == 1.0
+
+
+def test_map_note_reads_the_grid_size_and_levels_from_one_place():
+    options = data_tool_options()
+    assert options["map_points"] == MAP_POINTS
+    assert options["levels"] == tuple(tuple(level) for level in model.CONFIDENCE_LEVELS_2D)
+    texts = [str(n.children) for _, n in _walk_components(data_tools(options)) if hasattr(n, "children")]
+    # 68 % and 95 % joint regions of two parameters (common practice, no source)
+    assert any(f"{MAP_POINTS} × {MAP_POINTS} grid" in t and "Δχ² = 2.30 and 6.18" in t for t in texts)
+
+
+def _walk_components(node, path=()):
+    yield path, node
+    children = getattr(node, "children", None)
+    for i, child in enumerate(children if isinstance(children, list) else [children] if children is not None else []):
+        if hasattr(child, "children") or hasattr(child, "id"):
+            yield from _walk_components(child, path + (i,))
