@@ -137,16 +137,17 @@ def _whiten(data, x):
     """L^-1 x for every row of x (shape (P, N) or (N,)); NaN propagates.
 
     Without a covariance file L has at most one off-diagonal entry per row, L[j, i] with
-    i < j the first row of j's pair, and row i has none: forward substitution then takes
-    one vectorised step instead of a dense triangular solve.
+    i < j the first row of j's pair (``data.pair_rows``, ``data.pair_factor``), and row i
+    has none: forward substitution then takes one vectorised step on O(N) numbers instead
+    of a dense triangular solve.
     """
     if data.covariance_source == "file":
-        return linalg.solve_triangular(data.cholesky, x.T, lower=True, check_finite=False).T
-    diagonal = np.diag(data.cholesky)
+        return linalg.solve_triangular(data.file_cholesky, x.T, lower=True, check_finite=False).T
+    diagonal = data.factor_diagonal
     whitened = x / diagonal
-    if data.covariance_source == "pairs":
-        second, first = np.nonzero(np.tril(data.cholesky, -1))
-        whitened[..., second] -= whitened[..., first] * (data.cholesky[second, first] / diagonal[second])
+    if len(data.pair_rows):
+        first, second = data.pair_rows.T
+        whitened[..., second] -= whitened[..., first] * (data.pair_factor / diagonal[second])
     return whitened
 
 

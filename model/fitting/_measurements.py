@@ -97,12 +97,18 @@ class MeasurementLimits:
     max_covariance_bytes : int
         Largest covariance file, bytes (default 16 MiB: about 1000 x 1000
         entries printed with 16 characters each).
+    max_covariance_rows : int
+        Most measurement rows a covariance file may cover (default 2000): a
+        file's covariance and its factor are kept dense, 2 x 8 N^2 bytes (64 MB
+        at 2000 rows). Correlated pairs (``group``, ``correlation``) have no
+        such limit: they are kept as 2 x 2 blocks.
     """
 
     max_bytes: int = 1 << 20
     max_rows: int = 5000
     max_cell_chars: int = 200
     max_covariance_bytes: int = 16 << 20
+    max_covariance_rows: int = 2000
 
 
 def _frozen(array):
@@ -132,11 +138,19 @@ class MeasurementSet:
         Free text and pair name ('' where empty).
     line : ndarray of int
         Line of the measurement file each row came from (for messages).
-    covariance : ndarray, shape (N, N)
-        Complete covariance (diagonal from ``error`` plus pair correlations,
-        or the covariance file).
-    cholesky : ndarray, shape (N, N)
-        Its lower Cholesky factor L, ``covariance = L @ L.T``.
+    factor_diagonal : ndarray, shape (N,)
+        Diagonal of the lower Cholesky factor L of the covariance,
+        ``C = L @ L.T``.
+    pair_rows : ndarray of int, shape (M, 2)
+        The rows ``(i, j)``, ``i < j``, of each correlated pair (M = 0 without
+        pairs or with a covariance file).
+    pair_covariance, pair_factor : ndarray, shape (M,)
+        ``C[i, j]`` and ``L[j, i]`` of each pair: with the diagonal, the whole
+        covariance and factor of a table without a covariance file (2 x 2
+        blocks, never an N x N matrix).
+    file_covariance, file_cholesky : ndarray, shape (N, N), or None
+        The covariance file's matrix and its factor L (dense; at most
+        ``MeasurementLimits.max_covariance_rows`` rows); None otherwise.
     covariance_source : str
         ``"diagonal"``, ``"pairs"`` or ``"file"``.
     """
@@ -149,12 +163,38 @@ class MeasurementSet:
     label: tuple
     group: tuple
     line: np.ndarray
-    covariance: np.ndarray
-    cholesky: np.ndarray
+    factor_diagonal: np.ndarray
+    pair_rows: np.ndarray
+    pair_covariance: np.ndarray
+    pair_factor: np.ndarray
+    file_covariance: object
+    file_cholesky: object
     covariance_source: str
 
     def __len__(self):
         return int(self.z.size)
+
+    @property
+    def covariance(self):
+        """The complete covariance as a dense N x N array, built on each call (for small
+        tables and notebooks; the likelihood uses the blocks). Read-only."""
+        if self.file_covariance is not None:
+            return self.file_covariance
+        matrix = np.diag(self.error**2)
+        i, j = self.pair_rows.T
+        matrix[i, j] = matrix[j, i] = self.pair_covariance
+        return _frozen(matrix)
+
+    @property
+    def cholesky(self):
+        """Its lower Cholesky factor L (``covariance = L @ L.T``) as a dense N x N array,
+        built on each call like `covariance`. Read-only."""
+        if self.file_cholesky is not None:
+            return self.file_cholesky
+        factor = np.diag(self.factor_diagonal)
+        i, j = self.pair_rows.T
+        factor[j, i] = self.pair_factor
+        return _frozen(factor)
 
     @property
     def kinds_present(self):
@@ -290,10 +330,17 @@ def _read_row(number, cells, columns, source, limits):
     return z, kind, value, error, z_helio, cell_of("label"), group, correlation
 
 
-def _pair_covariance(rows, columns, source):
-    """Diagonal covariance from the errors plus the off-diagonal entries of each group."""
+def _pair_blocks(rows, columns, source):
+    """The covariance of the errors and the correlated pairs, and its Cholesky factor, as
+    2 x 2 blocks: ``(factor_diagonal, pair_rows, pair_covariance, pair_factor, source)``.
+
+    Each pair (i, j), i < j, is the block [[e_i^2, r e_i e_j], [r e_i e_j, e_j^2]]; as no row
+    is in two pairs, the factor's column i holds only L[i, i] = e_i and L[j, i] = C[i, j] / L[i, i],
+    and L[j, j] = sqrt(e_j^2 - L[j, i]^2): the Cholesky recurrence (Golub & Van Loan,
+    Matrix Computations, 4th ed. 2013, algorithm 4.2.1) with the same operations a dense
+    factorisation does on these entries.
+    """
     error = np.array([r["error"] for r in rows])
-    covariance = np.diag(error**2)
     members = {}
     for index, row in enumerate(rows):
         if row["group"]:
@@ -312,8 +359,19 @@ def _pair_covariance(rows, columns, source):
                 source, rows[j]["line"], columns["correlation"] + 1,
                 f"group {name!r}: correlation {rows[j]['correlation']:g} differs from "
                 f"{rows[i]['correlation']:g} on line {rows[i]['line']}; give the same value", "correlation")
-        covariance[i, j] = covariance[j, i] = rows[i]["correlation"] * error[i] * error[j]
-    return covariance, ("pairs" if members else "diagonal")
+    pairs = np.array(list(members.values()), dtype=np.intp).reshape(-1, 2)
+    first, second = pairs.T
+    correlation = np.array([rows[i]["correlation"] for i in first], dtype=float)
+    pair_covariance = correlation * error[first] * error[second]
+    diagonal = np.sqrt(error**2)
+    pair_factor = pair_covariance / diagonal[first]
+    rest = error[second] ** 2 - pair_factor**2
+    if not (rest > 0.0).all():  # only reachable through rounding: |r| < 1 keeps pairs definite
+        k = int(second[np.argmin(rest > 0.0)])
+        raise MeasurementFormatError(source, rows[k]["line"], columns.get("correlation", 0) + 1,
+                                     "the correlations make the covariance non-positive-definite", "correlation")
+    diagonal[second] = np.sqrt(rest)
+    return diagonal, pairs, pair_covariance, pair_factor, ("pairs" if members else "diagonal")
 
 
 def _cholesky(covariance, fail_at):
@@ -426,17 +484,19 @@ def parse_measurements(data, covariance=None, *, limits=MeasurementLimits()):
 
     error = np.array([r["error"] for r in rows])
     lines = [r["line"] for r in rows]
+    matrix = factor = None
     if covariance is None:
-        matrix, covariance_source = _pair_covariance(rows, columns, source)
-
-        def fail_at(k):  # only reachable through rounding: |r| < 1 keeps pairs definite
-            return MeasurementFormatError(
-                source, lines[k], columns.get("correlation", 0) + 1,
-                "the correlations make the covariance non-positive-definite", "correlation")
-        factor = _cholesky(matrix, fail_at)
+        diagonal, pairs, pair_covariance, pair_factor, covariance_source = _pair_blocks(rows, columns, source)
     else:
+        if len(rows) > limits.max_covariance_rows:
+            raise MeasurementFormatError(
+                "covariance", 1, 1,
+                f"a covariance file covers at most {limits.max_covariance_rows} measurement rows (it is "
+                f"kept as a dense matrix); the measurement file has {len(rows)}. Give correlated pairs "
+                "with the group and correlation columns instead, or split the table")
         matrix, factor = _read_covariance(covariance, len(rows), error, lines, limits)
-        covariance_source = "file"
+        diagonal, covariance_source = np.diag(factor).copy(), "file"
+        pairs, pair_covariance, pair_factor = np.empty((0, 2), dtype=np.intp), np.empty(0), np.empty(0)
 
     return MeasurementSet(
         z=_frozen([r["z"] for r in rows]),
@@ -447,8 +507,12 @@ def parse_measurements(data, covariance=None, *, limits=MeasurementLimits()):
         label=tuple(r["label"] for r in rows),
         group=tuple(r["group"] for r in rows),
         line=_frozen(np.array(lines, dtype=int)),
-        covariance=_frozen(matrix),
-        cholesky=_frozen(factor),
+        factor_diagonal=_frozen(diagonal),
+        pair_rows=_frozen(pairs),
+        pair_covariance=_frozen(pair_covariance),
+        pair_factor=_frozen(pair_factor),
+        file_covariance=None if matrix is None else _frozen(matrix),
+        file_cholesky=None if factor is None else _frozen(factor),
         covariance_source=covariance_source,
     )
 
