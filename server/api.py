@@ -197,7 +197,7 @@ def make_blueprint() -> Blueprint:
             "version": _package_version(),
             "cache": current_app.config["CACHE_TYPE"],
             "shared_cache": "ok" if getattr(cache.cache, "available", True) else "unavailable",
-            "data_store": "ok" if data_store.set_store().available else "unavailable",
+            "data_store": "ok" if data_store.set_store().ping() else "unavailable",
         })
 
     @bp.post("/api/v1/data")

@@ -192,13 +192,14 @@ class SetStore:
             try:
                 if self.engine is None:
                     self.engine = self._create_engine()
-                for attempt in (1, 2):
+                for attempt in (1, 2, 3):
                     try:
-                        SCHEMA.create_all(self.engine)
+                        SCHEMA.create_all(self.engine)  # checks first: existing tables are kept
                         break
-                    except IntegrityError:  # another worker created the same table meanwhile
-                        if attempt == 2:
+                    except DBAPIError:  # another worker created the same table meanwhile
+                        if attempt == 3:
                             raise
+                        time.sleep(0.05 * attempt)
             except (SQLAlchemyError, OSError) as err:
                 self._fail(err)
                 return False
@@ -238,6 +239,19 @@ class SetStore:
             logger.warning("data store %s unavailable (%s); uploads are refused with 503 until it is back",
                            self.where, reason)
 
+    def ping(self) -> bool:
+        """True when the database answers now (``SELECT 1``); a store marked unavailable is
+        tried again when due. A failure marks it unavailable, with one warning."""
+        if self.problem is not None:
+            return self.available
+        try:
+            with self.engine.connect() as conn:
+                conn.exec_driver_sql("SELECT 1")
+        except (SQLAlchemyError, OSError) as err:
+            self._fail(err)
+            return False
+        return True
+
     def _usable(self):
         if self.problem is not None:
             if time.monotonic() < self._next_try or not self.open():
@@ -253,7 +267,8 @@ class SetStore:
         except (StoreFull, RateLimited, IntegrityError):
             raise
         except (DBAPIError, SQLAlchemyError, OSError) as err:
-            self._fail(err)
+            # unreachable: marked unavailable until it answers; merely locked or read-only: not
+            self.ping()
             verb = "written" if write else "read"
             raise StoreUnavailable(f"the {self.kind} measurement store cannot be {verb} ({_reason(err)})") from None
 

@@ -16,6 +16,7 @@ import os
 import sqlite3
 import subprocess
 import sys
+import time
 
 import numpy as np
 import pytest
@@ -210,6 +211,26 @@ def test_a_read_only_postgresql_store_never_acknowledges(app_factory, postgres):
     assert "PostgreSQL measurement store cannot be written" in r.get_json()["error"]["message"]
     with postgres.connect(f"readonly_{os.getpid()}") as conn:
         assert conn.execute("SELECT count(*) FROM measurement_sets").fetchone()[0] == 0
+
+
+def test_postgresql_going_away_mid_run_is_reported_and_refused_then_used_again(app_factory, postgres):
+    url = postgres.create_database(f"away_{os.getpid()}")
+    app = app_factory(CACHE_TYPE="SimpleCache", DATABASE_URL=url, CACHE_RETRY_SECONDS=0.2,
+                      DATA_STORE_TIMEOUT_SECONDS=1)
+    client = app.server.test_client()
+    first = post(client, table(0)).get_json()["data"]
+    postgres.stop()
+    try:
+        assert client.get("/healthz").get_json()["data_store"] == "unavailable"
+        r = post(client, table(1))
+        assert r.status_code == 503 and "PostgreSQL measurement store" in r.get_json()["error"]["message"]
+        # a set this worker has parsed keeps working while the store is out
+        assert client.get(f"/api/v1/compare?{QUERY}&data={first}").status_code == 200
+    finally:
+        postgres.start()
+    time.sleep(0.3)  # the retry interval
+    assert client.get("/healthz").get_json()["data_store"] == "ok"
+    assert post(client, table(1)).status_code == 201
 
 
 @pytest.mark.parametrize("engine", ["sqlite", "postgresql"])
