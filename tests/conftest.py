@@ -1,8 +1,11 @@
-"""Shared test setup: headless Chromium options for dash_duo (see ../shared/TOOLCHAIN.md) and a
-fresh app per test, built by the factory with a private cache folder."""
+"""Shared test setup: headless Chromium options for dash_duo (see ../shared/TOOLCHAIN.md), a
+fresh app per test, built by the factory with a private cache folder and measurement store, and
+the measurement store's two engines (SQLite in the test's folder; one real PostgreSQL server
+per session, started on first use on a free port and stopped by PID)."""
 
 from __future__ import annotations
 
+import itertools
 import os
 import sys
 from pathlib import Path
@@ -39,3 +42,25 @@ def app_factory(tmp_path):
         return create_app(config)
 
     return build
+
+
+_databases = itertools.count()
+
+
+@pytest.fixture(scope="session")
+def postgres():
+    """A throwaway PostgreSQL server (benchmarks/_postgres.py) for the whole session."""
+    from benchmarks._postgres import PostgresServer
+    from benchmarks._serving import free_port
+
+    server = PostgresServer(free_port()).start()
+    yield server
+    server.remove()
+
+
+@pytest.fixture(params=["sqlite", "postgresql"])
+def database_url(request, tmp_path):
+    """The URL of an empty measurement store on each engine."""
+    if request.param == "sqlite":
+        return f"sqlite:///{tmp_path / 'store' / 'measurements.sqlite3'}"
+    return request.getfixturevalue("postgres").create_database(f"store_{os.getpid()}_{next(_databases)}")

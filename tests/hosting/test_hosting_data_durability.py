@@ -8,18 +8,14 @@ directly on the uploaded file (and the p-value against scipy.stats.chi2.sf)."""
 
 from __future__ import annotations
 
-import itertools
 import json
 import math
-import os
 import re
 from concurrent.futures import ThreadPoolExecutor
 
-import pytest
 from scipy import stats
 
 import model
-from benchmarks._postgres import PostgresServer
 from benchmarks._serving import Gunicorn, RedisServer, free_port, get, post
 from server import data_store
 
@@ -28,7 +24,6 @@ DEMO = model.read_measurements(data_store.DEMO_PATH)
 QUERY = "m1.label=Lantern%20baseline&m1.h0=68&m1.om=0.31&m2.label=Candidate%20Ember&m2.w0=-0.88&m2.wa=-0.35"
 MODELS = [model.Cosmology(h0=68.0, omega_m=0.31), model.Cosmology(w0=-0.88, wa=-0.35, h0=67.36, omega_m=0.3153)]
 EXPECTED = [model.goodness_of_fit(m, DEMO) for m in MODELS]
-_names = itertools.count()
 
 
 def assert_reproduces(payload: dict, digest: str) -> None:
@@ -41,20 +36,6 @@ def assert_reproduces(payload: dict, digest: str) -> None:
 
 def other_table(i: int) -> bytes:
     return f"z,kind,value,error\n0.5,dm_over_rd,{13 + i * 1e-5:.5f},0.2\n".encode()
-
-
-@pytest.fixture(scope="module")
-def postgres():
-    server = PostgresServer(free_port()).start()
-    yield server
-    server.remove()
-
-
-@pytest.fixture(params=["sqlite", "postgresql"])
-def database_url(request, tmp_path):
-    if request.param == "sqlite":
-        return f"sqlite:///{tmp_path / 'store' / 'measurements.sqlite3'}"
-    return request.getfixturevalue("postgres").create_database(f"durable_{os.getpid()}_{next(_names)}")
 
 
 def test_600_uploads_and_300_new_links_on_a_100_entry_cache_leave_the_first_link_working(app_factory, tmp_path,

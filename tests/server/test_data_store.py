@@ -11,7 +11,6 @@ from __future__ import annotations
 import datetime as dt
 import hashlib
 import io
-import itertools
 import os
 import sqlite3
 import subprocess
@@ -23,33 +22,17 @@ import pytest
 from cachelib.file import FileSystemCache
 
 import model
-from benchmarks._postgres import PostgresServer
 from benchmarks._serving import ROOT, free_port
 from server import admin, codec, data_store
 
 TABLE = b"z,kind,value,error,label\n0.51,dm_over_rd,13.6,0.25,made-up survey A\n0.8,hubble_parameter,95,9,\n"
 COVARIANCE = b"0.0625,0.1\n0.1,81\n"
 QUERY = "m1.label=Base&m2.w0=-0.9"
-_names = itertools.count()
 
 
 def table(i: int) -> bytes:
     """A different valid one-row table for each i."""
     return f"z,kind,value,error\n0.5,dm_over_rd,{13 + i * 1e-4:.4f},0.2\n".encode()
-
-
-@pytest.fixture(scope="module")
-def postgres():
-    server = PostgresServer(free_port()).start()
-    yield server
-    server.remove()
-
-
-@pytest.fixture(params=["sqlite", "postgresql"])
-def database_url(request, tmp_path):
-    if request.param == "sqlite":
-        return f"sqlite:///{tmp_path / 'store' / 'measurements.sqlite3'}"
-    return request.getfixturevalue("postgres").create_database(f"store_{os.getpid()}_{next(_names)}")
 
 
 @pytest.fixture
