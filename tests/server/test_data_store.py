@@ -318,3 +318,21 @@ def test_parsed_sets_memo_is_bounded_in_bytes_and_the_store_backs_it(app, monkey
     digests = [data_store.store(table(i)).hash for i in range(3)]
     assert len(memo) == 2 and memo.get(digests[0]) is None and memo.size <= memo.limit
     assert data_store.load(digests[0]).measurements.value.tolist() == [13.0]  # read back from the store
+
+
+def test_sets_in_an_old_redis_cache_are_copied(app_factory, database_url):
+    from cachelib.serializers import RedisSerializer
+
+    from benchmarks._serving import RedisServer
+
+    with RedisServer() as redis_server:
+        digest = data_store.content_hash(TABLE, None)
+        client = redis_server.client()
+        # as earlier versions stored them: flask-caching's RedisCache serializer, under a key prefix
+        client.set(f"fdesk-0123456789ab-measurements:{digest}",
+                   RedisSerializer().dumps({"measurements": TABLE, "covariance": None, "name": "kept.csv"}))
+        client.set("fdesk-0123456789ab-model_curves:abc", RedisSerializer().dumps(({"a": 1},)))
+        app = app_factory(CACHE_TYPE="RedisCache", CACHE_REDIS_URL=redis_server.url, DATABASE_URL=database_url)
+        with app.server.app_context():
+            assert data_store.set_store().stats()["sets"] == 1
+            assert data_store.load(digest).name == "kept.csv"
