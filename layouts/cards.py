@@ -47,13 +47,15 @@ def model_card(card: Card) -> html.Div:
 
 
 def card_status(status: CardStatus) -> list:
-    """`status`: ``{"derived": [(name, Text)], "errors": [message], "reference": bool}``."""
+    """`status`: ``{"derived": [(name, Text)], "cautions": [text], "errors": [message], "reference": bool}``."""
     out = []
     if status.get("reference"):
         out.append(html.Div("reference model", className="fd-ref-badge"))
     if status.get("derived"):
         out.append(html.Dl(className="fd-derived", children=[
             part for name, text in status["derived"] for part in (html.Dt(name), html.Dd(render(text)))]))
+    for message in status.get("cautions", []):
+        out.append(html.Div(message, className="fd-caution", role="note"))
     for message in status.get("errors", []):
         out.append(html.Div(message, className="fd-error", role="alert"))
     return out

@@ -110,6 +110,11 @@ def _unit_text(unit: str) -> str:
     return f" {unit}" if unit else ""
 
 
+# User text (labels) never goes into a hover template itself, where Plotly would read "%{...}" in
+# it as a placeholder: the template refers to the trace's own name, substituted as plain text.
+_EXTRA = "<extra>%{fullData.name}</extra>"
+
+
 def _points_trace(points: dict, spec: dict, yaxis: str, unit: str | None = None, crowded: bool = False) -> dict:
     """Measurements (role data), or one model's residuals or pulls, as markers with 1-sigma error
     bars; `text` (labels from the file) is escaped."""
@@ -124,7 +129,7 @@ def _points_trace(points: dict, spec: dict, yaxis: str, unit: str | None = None,
         "marker": {"color": colour, "size": MARKER_SIZE, "symbol": "circle", "opacity": opacity},
         "hovertemplate": (f"{spec.get('x_hover', 'x')} = %{{x:.5g}}<br>"
                           f"{points.get('y_hover', spec.get('y_hover', 'y'))} = %{{y:.5g}}{_unit_text(unit)}"
-                          + ("<br>%{text}" if points.get("text") is not None else "") + f"<extra>{name}</extra>"),
+                          + ("<br>%{text}" if points.get("text") is not None else "") + _EXTRA),
     }
     if points.get("error") is not None:
         trace["error_y"] = {"type": "data", "array": np.asarray(points["error"], dtype=float).tolist(),
@@ -158,7 +163,7 @@ def _trace(series: dict, spec: dict, yaxis: str, xaxis: str = "x", unit: str | N
         "line": _line(series),
         "hovertemplate": (f"{spec.get('x_hover', 'x')} = %{{x:.5g}}<br>"
                           f"{series.get('y_hover', spec.get('y_hover', 'y'))} = %{{y:.6g}}{_unit_text(unit)}"
-                          f"<extra>{name}</extra>"),
+                          + _EXTRA),
     }
 
 
@@ -248,8 +253,8 @@ def small_multiples(spec: dict) -> dict:
         for s in panel["series"]:
             trace = _trace(s, spec, f"y{suffix}", xaxis=f"x{suffix}")
             trace["showlegend"] = i == 0
-            trace["hovertemplate"] = trace["hovertemplate"].replace(
-                "<extra>", "<extra>" + escape_for_figure(panel["title"]) + ": ")
+            trace["meta"] = escape_for_figure(panel["title"])  # the model's label, as typed
+            trace["hovertemplate"] = trace["hovertemplate"].replace("<extra>", "<extra>%{meta}: ")
             data.append(trace)
         for marker in panel.get("markers", []):
             annotations.append({"x": _annotation_x(marker["x"], spec.get("x_log")), "y": 1.0,

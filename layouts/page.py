@@ -13,7 +13,7 @@ from layouts.text import render
 
 __all__ = ["page", "panel_body", "notice"]
 
-TONE_CLASSES = {"note": "fd-note", "error": "fd-error"}
+TONE_CLASSES = {"note": "fd-note", "caution": "fd-caution", "error": "fd-error"}
 
 
 def page(options: PageOptions) -> html.Div:

@@ -24,7 +24,7 @@ Array = Any  # a 1-d numpy array or a list of floats
 #   model (colour per component); guide: a reference slope; data: measurements with error
 #   bars; residual: data minus one model; pull: (data - model) / error of one model.
 Role = Literal["model", "component", "guide", "data", "residual", "pull"]
-Tone = Literal["note", "error"]
+Tone = Literal["note", "caution", "error"]
 
 
 class Number(TypedDict):
@@ -186,6 +186,7 @@ class Card(TypedDict):
 class CardStatus(TypedDict, total=False):
     reference: bool
     errors: list[str]
+    cautions: list[str]  # the numbers are shown, but with a caveat (e.g. a fit used outside its range)
     derived: list[tuple[str, Text]]
 
 

@@ -4,7 +4,7 @@ import math
 
 import numpy as np
 
-from ._distances import as_redshifts, evaluate
+from ._distances import Z_MAX, as_redshifts, evaluate
 from ._tables import tables
 
 __all__ = ["sound_horizon", "acoustic_scales", "z_star_fit", "z_drag_fit", "r_drag_fit",
@@ -162,12 +162,21 @@ def acoustic_scales(cosmo):
         out.update(r_drag_method=None, r_drag_caution=None)
         return out
     wb, wm = cosmo.omega_b * h2, cosmo.omega_m * h2
-    z_star = float(z_star_fit(wb, wm))
-    z_drag = float(z_drag_fit(wb, wm))
-    r_star, r_drag_int = (float(v) for v in sound_horizon(cosmo, [z_star, z_drag]))
-    d_m_star = float(evaluate(cosmo, z_star)["transverse_comoving_distance"])
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        z_star = float(z_star_fit(wb, wm))
+        z_drag = float(z_drag_fit(wb, wm))
+    # far outside their calibration (e.g. a vanishing Ω_b h²) the fits can leave the model's
+    # range of redshifts: the scales at such a redshift are NaN, and the caution says why
+    inside = [math.isfinite(z) and 0.0 <= z <= Z_MAX for z in (z_star, z_drag)]
+    r_star, r_drag_int = (float(v) if ok else nan for v, ok in
+                          zip(sound_horizon(cosmo, [z if ok else 0.0 for z, ok in zip((z_star, z_drag), inside)]),
+                              inside))
+    d_m_star = float(evaluate(cosmo, z_star)["transverse_comoving_distance"]) if inside[0] else nan
     r_fit = r_drag_fit(d["omega_cb"] * h2, wb, d["omega_nu"] * h2)
     found = r_drag_fit_outside(cosmo)
+    if not all(inside):
+        found = list(found) + [("z_fits", f"Ω_b h² = {wb:.3g}, where the fitted z* = {z_star:.3g} and "
+                                          f"z_drag = {z_drag:.3g} leave the model's range z ≤ {Z_MAX:g}")]
     switch = any(key in _R_DRAG_SWITCH for key, _ in found)
     caution = None
     if found:

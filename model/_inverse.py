@@ -11,7 +11,7 @@ from ._errors import ParameterError
 
 __all__ = ["redshift_at", "INVERTIBLE"]
 
-# The registry marks what can be inverted; each needs its slope in _value_and_slope.
+# What can be inverted: the registered quantities with a slope (model._quantities).
 INVERTIBLE = invertible_quantities()
 
 
@@ -23,37 +23,9 @@ def _nodes():
 
 
 def _value_and_slope(cosmo, quantity, z):
-    """The quantity at z and its derivative with respect to u = ln(1+z)."""
+    """The quantity at z and its derivative with respect to u = ln(1+z) (the registry's slope)."""
     r = evaluate(cosmo, z)
-    x = 1.0 + z
-    d_chi = x * r["hubble_distance_at_z"]  # dD_C/du = (1+z) c/H(z)
-    if quantity in ("age", "lookback_time"):
-        slope = cosmo.hubble_time * cosmo.h0 / r["hubble_parameter"]
-        return r[quantity], (-slope if quantity == "age" else slope)
-    if quantity == "comoving_distance":
-        return r[quantity], d_chi
-    if quantity == "particle_horizon":
-        return r[quantity], -d_chi
-    dm = r["transverse_comoving_distance"]
-    # dD_M/dD_C = cos or cosh of √|Ω_k| D_C/D_H (Hogg 1999, eq. 16 differentiated): negative
-    # past the equator of a closed universe, where D_M falls
-    k = math.sqrt(abs(cosmo.omega_k))
-    angle = k * r["comoving_distance"] / cosmo.hubble_distance
-    if cosmo.omega_k < 0.0:
-        d_dm = d_chi * np.cos(angle)
-    elif cosmo.omega_k > 0.0:
-        d_dm = d_chi * np.cosh(angle)
-    else:
-        d_dm = d_chi
-    if quantity == "transverse_comoving_distance":
-        return dm, d_dm
-    if quantity == "comoving_volume":
-        return r[quantity], 4.0e-9 * math.pi * dm * dm * d_chi
-    d_dl = x * (dm + d_dm)
-    if quantity == "luminosity_distance":
-        return r[quantity], d_dl
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return r[quantity], 5.0 / math.log(10.0) * d_dl / r["luminosity_distance"]
+    return r[quantity], QUANTITIES[quantity].slope(cosmo, r, 1.0 + z)
 
 
 def _at(cosmo, quantity, u):

@@ -25,8 +25,11 @@ True
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Callable
+
+import numpy as np
 
 __all__ = ["Quantity", "QUANTITIES", "THEMES", "invertible_quantities"]
 
@@ -56,8 +59,10 @@ class Quantity:
         One line saying what it is.
     theme : str
         One of :data:`THEMES`.
-    invertible : bool
-        Whether :func:`model.redshift_at` inverts it (monotonic from z = 0 on its first branch).
+    slope : callable, optional
+        ``slope(cosmo, values, x) -> ndarray``: the derivative with respect to ln(1+z), from the
+        values of :func:`model.evaluate` at x = 1 + z. A quantity with a slope is invertible:
+        :func:`model.redshift_at` inverts it on its monotonic branch from z = 0.
     derive : callable, optional
         ``derive(cosmo, z, values) -> ndarray``: computes the quantity from the redshifts and the
         built-in values; None for the quantities the kernel fills itself.
@@ -68,8 +73,13 @@ class Quantity:
     symbol: str
     description: str
     theme: str
-    invertible: bool = False
+    slope: Callable | None = None
     derive: Callable | None = None
+
+    @property
+    def invertible(self) -> bool:
+        """Whether :func:`model.redshift_at` inverts it (it has a slope)."""
+        return self.slope is not None
 
     def __post_init__(self):
         if self.theme not in THEMES:
@@ -78,26 +88,61 @@ class Quantity:
             raise ValueError(f"unit of {self.key}: dimensionless is spelled '' (empty), not '1'")
 
 
+# Slopes d/du, u = ln(1+z), from the values of evaluate() (Hogg 1999 differentiated): dD_C/du =
+# (1+z) c/H(z) (§5, eq. 15); dt/du = 1/H(z) (§10, eq. 30); dD_M/dD_C = cos or cosh of
+# √|Ω_k| D_C/D_H (§5, eq. 16), negative past the equator of a closed universe, where D_M falls.
+
+
+def _d_chi(cosmo, v, x):
+    return x * v["hubble_distance_at_z"]
+
+
+def _d_time(cosmo, v, x):
+    return cosmo.hubble_time * cosmo.h0 / v["hubble_parameter"]
+
+
+def _d_dm(cosmo, v, x):
+    angle = math.sqrt(abs(cosmo.omega_k)) * v["comoving_distance"] / cosmo.hubble_distance
+    if cosmo.omega_k < 0.0:
+        return _d_chi(cosmo, v, x) * np.cos(angle)
+    if cosmo.omega_k > 0.0:
+        return _d_chi(cosmo, v, x) * np.cosh(angle)
+    return _d_chi(cosmo, v, x)
+
+
+def _d_dl(cosmo, v, x):  # D_L = (1+z) D_M
+    return x * (v["transverse_comoving_distance"] + _d_dm(cosmo, v, x))
+
+
+def _d_mu(cosmo, v, x):  # μ = 5 log10(D_L / 10 pc)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return 5.0 / math.log(10.0) * _d_dl(cosmo, v, x) / v["luminosity_distance"]
+
+
+def _d_volume(cosmo, v, x):  # dV_C = 4π D_M² dD_C, in Gpc³
+    return 4.0e-9 * math.pi * v["transverse_comoving_distance"] ** 2 * _d_chi(cosmo, v, x)
+
+
 QUANTITIES: dict[str, Quantity] = {q.key: q for q in (
     Quantity("scale_factor", "", "a", "scale factor a = 1/(1+z)", "expansion"),
     Quantity("hubble_parameter", "km/s/Mpc", "H", "Hubble parameter H(z)", "expansion"),
     Quantity("hubble_distance_at_z", "Mpc", "D_H", "Hubble distance c/H(z)", "distances"),
     Quantity("comoving_distance", "Mpc", "D_C", "line-of-sight comoving distance D_C", "distances",
-             invertible=True),
+             slope=_d_chi),
     Quantity("transverse_comoving_distance", "Mpc", "D_M", "transverse comoving distance D_M", "distances",
-             invertible=True),
+             slope=_d_dm),
     Quantity("angular_diameter_distance", "Mpc", "D_A", "angular-diameter distance D_A", "distances"),
-    Quantity("luminosity_distance", "Mpc", "D_L", "luminosity distance D_L", "distances", invertible=True),
-    Quantity("distance_modulus", "mag", "μ", "distance modulus μ", "distances", invertible=True),
-    Quantity("lookback_time", "Gyr", "t_L", "lookback time", "times", invertible=True),
-    Quantity("age", "Gyr", "t", "age of the universe at z", "times", invertible=True),
-    Quantity("comoving_volume", "Gpc³", "V_C", "all-sky comoving volume within z", "volumes", invertible=True),
+    Quantity("luminosity_distance", "Mpc", "D_L", "luminosity distance D_L", "distances", slope=_d_dl),
+    Quantity("distance_modulus", "mag", "μ", "distance modulus μ", "distances", slope=_d_mu),
+    Quantity("lookback_time", "Gyr", "t_L", "lookback time", "times", slope=_d_time),
+    Quantity("age", "Gyr", "t", "age of the universe at z", "times", slope=lambda c, v, x: -_d_time(c, v, x)),
+    Quantity("comoving_volume", "Gpc³", "V_C", "all-sky comoving volume within z", "volumes", slope=_d_volume),
     Quantity("comoving_volume_element", "Mpc³/sr", "dV_C/dz/dΩ", "comoving volume per steradian per unit z",
              "volumes"),
     Quantity("angular_scale", "kpc/arcsec", "kpc per arcsec", "proper length per arcsecond", "scales"),
     Quantity("volume_averaged_distance", "Mpc", "D_V", "BAO volume-averaged distance D_V", "distances"),
     Quantity("particle_horizon", "Mpc", "χ_particle", "comoving particle horizon", "distances",
-             invertible=True),
+             slope=lambda c, v, x: -_d_chi(c, v, x)),
     Quantity("event_horizon", "Mpc", "χ_event", "comoving event horizon", "distances"),
     Quantity("deceleration_parameter", "", "q", "deceleration parameter q", "expansion"),
 )}

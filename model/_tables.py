@@ -24,6 +24,7 @@ Columns (integrals in units of the Hubble distance c/H₀ or the Hubble time 1/H
 import collections
 import functools
 import math
+import threading
 
 import numpy as np
 from . import _hermite as hermite
@@ -295,20 +296,28 @@ class Tables:
 
 
 def per_model(build, size=64):
-    """Cache ``build(cosmo)`` by the model's physics (``cosmo.key``; the label does not count)."""
+    """Cache ``build(cosmo)`` by the model's physics (``cosmo.key``; the label does not count).
+
+    Safe under threads (a threaded web server calls it from several at once): the look-ups and
+    updates of the order hold a lock; two threads that miss together both build, and one result
+    is kept.
+    """
     cache = collections.OrderedDict()
+    lock = threading.Lock()
 
     @functools.wraps(build)
     def cached(cosmo):
         key = cosmo.key
-        found = cache.get(key)
-        if found is None:
-            found = build(cosmo)
-            cache[key] = found
+        with lock:
+            found = cache.get(key)
+            if found is not None:
+                cache.move_to_end(key)
+                return found
+        found = build(cosmo)
+        with lock:
+            found = cache.setdefault(key, found)
             while len(cache) > size:
                 cache.popitem(last=False)
-        else:
-            cache.move_to_end(key)
         return found
 
     return cached

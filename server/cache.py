@@ -48,7 +48,7 @@ from server.config import redis_options
 
 __all__ = ["cache", "attach", "code_fingerprint", "LRU", "in_process", "memoized", "fetch_many", "store_shared",
            "flush_writes", "FRONT_ENTRIES", "GuardedBackend", "PrefixedFileSystemCache", "guard_backend",
-           "writable_folder", "request_cache_status", "BudgetExceeded", "Uncacheable"]
+           "writable_folder", "request_cache_status", "BudgetExceeded", "Uncacheable", "request_deadline"]
 
 logger = logging.getLogger(__name__)
 
@@ -240,6 +240,14 @@ def request_cache_status(environ: dict) -> str:
     if counts["computed"]:
         return "miss"
     return "hit-shared" if counts["shared"] else "hit"
+
+
+def request_deadline() -> float | None:
+    """The current request's computation deadline (``time.monotonic()``), or None outside one."""
+    if has_request_context():
+        deadline = request.environ.get(_DEADLINE)
+        return None if deadline is None else deadline[0]
+    return None
 
 
 def _check_budget() -> None:

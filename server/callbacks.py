@@ -21,6 +21,7 @@ from layouts.ids import ids
 from layouts.page import notice, panel_body
 import model
 from server import codec, data_store, state as states
+from server.cache import BudgetExceeded
 from server.views import data_tools
 from server.views.cards import card_status as card_status_spec, cards
 from server.views.comparison import compare
@@ -208,7 +209,7 @@ def register(app) -> None:
         state = codec.decode(search or "")
         try:
             fit = data_tools.fit_request(state, slot, list(free or []), _fit_bounds(ctx.states_list[2]))
-        except (data_tools.FitRequestError, data_store.DataError, model.ModelError) as err:
+        except (data_tools.FitRequestError, data_store.DataError, model.ModelError, BudgetExceeded) as err:
             return messages([("error", f"No fit: {err}")]), None, True
         except Exception as err:  # noqa: BLE001
             logger.exception("fit failed for %r", search)
@@ -251,7 +252,7 @@ def register(app) -> None:
         state = codec.decode(search or "")
         try:
             result = data_tools.map_request(state, slot, x_name, y_name, _fit_bounds(ctx.states_list[3]), fit)
-        except (data_tools.FitRequestError, data_store.DataError, model.ModelError) as err:
+        except (data_tools.FitRequestError, data_store.DataError, model.ModelError, BudgetExceeded) as err:
             return messages([("error", f"No map: {err}")])
         except Exception as err:  # noqa: BLE001
             logger.exception("map failed for %r", search)

@@ -199,11 +199,14 @@ def _number_cells(values: np.ndarray) -> np.ndarray:
     out = words.view(np.uint8).reshape(v.shape + (_CELL,))
     if irregular:
         cells = out.reshape(-1, _CELL)
-        for k in np.concatenate(irregular):
-            cells[k] = _PAD  # NaN stays an empty cell
-            if not np.isnan(flat[k]):  # infinities and the tiniest numbers
-                text = ("%.9g" % flat[k]).encode("ascii")
-                cells[k, :len(text)] = np.frombuffer(text, dtype=np.uint8)
+        irregular = np.concatenate(irregular)
+        cells[irregular] = _PAD  # NaN stays an empty cell
+        values = flat[irregular]
+        cells[irregular[values == np.inf], :3] = np.frombuffer(b"inf", dtype=np.uint8)
+        cells[irregular[values == -np.inf], :4] = np.frombuffer(b"-inf", dtype=np.uint8)
+        for k in irregular[np.isfinite(values)]:  # the tiniest numbers (|x| < 1e-290): rare
+            text = ("%.9g" % flat[k]).encode("ascii")
+            cells[k, :len(text)] = np.frombuffer(text, dtype=np.uint8)
     return out
 
 

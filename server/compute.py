@@ -15,7 +15,7 @@ import numpy as np
 
 import model
 from server import codec
-from server.cache import in_process, memoized
+from server.cache import in_process, memoized, request_deadline
 
 __all__ = [
     "GRID_POINTS", "LINEAR_GRID_ZMAX", "SIGNIFICANT_DIGITS", "A_MIN", "A_MAX", "GUIDE_POWERS", "Resolved", "resolve",
@@ -333,7 +333,7 @@ def fit(key: str, digest: str, free: tuple[tuple[str, float, float], ...], r_d: 
     data = _measurements(digest)
     with np.errstate(all="ignore"):
         result = model.quick_fit(cosmology_for(key), data, {n: (lo, hi) for n, lo, hi in free},
-                                 model.Nuisances(r_d=r_d))
+                                 model.Nuisances(r_d=r_d), deadline=request_deadline())
     c = result.cosmology
     g = result.goodness
     return {"names": list(result.names), "values": result.values.tolist(), "errors": result.errors.tolist(),
@@ -351,6 +351,7 @@ def chi2_grid(key: str, digest: str, x: tuple[str, float, float], y: tuple[str, 
     data = _measurements(digest)
     xs, ys = np.linspace(x[1], x[2], n), np.linspace(y[1], y[2], n)
     with np.errstate(all="ignore"):
-        m = model.chi2_map(cosmology_for(key), data, x[0], xs, y[0], ys, model.Nuisances(r_d=r_d))
+        m = model.chi2_map(cosmology_for(key), data, x[0], xs, y[0], ys, model.Nuisances(r_d=r_d),
+                           deadline=request_deadline())
     return {"x_name": m.x_name, "y_name": m.y_name, "x": xs, "y": ys, "delta_chi2": np.array(m.delta_chi2),
             "chi2_min": m.chi2_min, "best": dict(m.best), "levels": [list(level) for level in m.levels]}

@@ -13,6 +13,7 @@ Errors, drawn as a tree::
 
 import dataclasses
 import math
+import time
 
 import numpy as np
 from scipy import optimize
@@ -196,7 +197,7 @@ class FitResult:
         return f"FitResult({parts}, chi2_min={self.chi2_min:.4g}, dof={self.dof})"
 
 
-def quick_fit(cosmo, data, free, nuisances=Nuisances(), *, max_evaluations=200):
+def quick_fit(cosmo, data, free, nuisances=Nuisances(), *, max_evaluations=200, deadline=None):
     """Least-squares fit of chosen parameters of a model to a measurement set.
 
     Parameters
@@ -213,6 +214,9 @@ def quick_fit(cosmo, data, free, nuisances=Nuisances(), *, max_evaluations=200):
         Treatment of the nuisances not listed in ``free``.
     max_evaluations : int, optional
         Budget of residual evaluations for the optimiser.
+    deadline : float, optional
+        A ``time.monotonic()`` instant: the fit stops with :class:`FitError` when an
+        evaluation would start after it (a server's time budget for one request).
 
     Returns
     -------
@@ -252,11 +256,18 @@ def quick_fit(cosmo, data, free, nuisances=Nuisances(), *, max_evaluations=200):
     def sets_of(matrix):
         return {name: matrix[:, j] for j, name in enumerate(names)}
 
+    def in_time():
+        if deadline is not None and time.monotonic() > deadline:
+            raise FitError(f"stopped after {n_evaluations[0]} evaluations: the time budget ran out; "
+                           "free fewer parameters, narrow the bounds or use a smaller table")
+
     def residuals(theta):
+        in_time()
         n_evaluations[0] += 1
         return problem.score(sets_of(theta[None, :]))["whitened"][0]
 
     def jacobian(theta):
+        in_time()
         up = np.minimum(theta + steps, high)
         down = np.maximum(theta - steps, low)
         p = theta.size

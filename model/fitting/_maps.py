@@ -2,6 +2,7 @@
 
 import dataclasses
 import math
+import time
 
 import numpy as np
 from scipy import special, stats
@@ -18,6 +19,10 @@ __all__ = ["CONFIDENCE_LEVELS_2D", "Chi2Map", "chi2_map"]
 #: them, 2.30 and 6.18 (Press et al., Numerical Recipes, 3rd ed. 2007, section 15.6).
 CONFIDENCE_LEVELS_2D = tuple(
     (float(p), float(stats.chi2.ppf(p, 2))) for p in special.erf(np.array([1.0, 2.0]) / math.sqrt(2.0)))
+
+# Grid nodes scored in one vectorised pass: large enough to amortise the set-up, small enough
+# to check a deadline often (judgement, no source).
+_BLOCK = 1200
 
 
 @dataclasses.dataclass(frozen=True, eq=False)
@@ -70,7 +75,7 @@ def _axis(name, values):
     return values
 
 
-def chi2_map(cosmo, data, x_name, x_values, y_name, y_values, nuisances=Nuisances()):
+def chi2_map(cosmo, data, x_name, x_values, y_name, y_values, nuisances=Nuisances(), *, deadline=None):
     """chi^2 and delta chi^2 of a measurement set on a grid of two parameters.
 
     Parameters
@@ -86,6 +91,9 @@ def chi2_map(cosmo, data, x_name, x_values, y_name, y_values, nuisances=Nuisance
     nuisances : Nuisances, optional
         Treatment of the nuisances not on an axis (free ones are minimised at
         every node in closed form).
+    deadline : float, optional
+        A ``time.monotonic()`` instant: the nodes are computed in blocks, and the map
+        stops with :class:`FitError` when a block would start after it.
 
     Returns
     -------
@@ -107,7 +115,14 @@ def chi2_map(cosmo, data, x_name, x_values, y_name, y_values, nuisances=Nuisance
         if name == "r_d" and not problem.needs_r_d or name == "offset" and not problem.needs_offset:
             raise FitError(f"no measurement depends on {name}; choose another map parameter")
     grid_x, grid_y = np.meshgrid(x, y)
-    chi2 = problem.score({x_name: grid_x.ravel(), y_name: grid_y.ravel()})["chi2"]
+    xs, ys = grid_x.ravel(), grid_y.ravel()
+    chi2 = np.empty(xs.size)
+    for start in range(0, xs.size, _BLOCK):
+        if deadline is not None and time.monotonic() > deadline:
+            raise FitError(f"stopped after {start} of {xs.size} grid nodes: the time budget ran out; "
+                           "use a smaller grid or a smaller table")
+        part = slice(start, start + _BLOCK)
+        chi2[part] = problem.score({x_name: xs[part], y_name: ys[part]})["chi2"]
     chi2 = chi2.reshape(grid_x.shape)
     if not np.isfinite(chi2).any():
         raise FitError("no node of the grid gives a valid model for these data")

@@ -273,6 +273,11 @@ def _read_header(number, cells, source, limits):
     return columns
 
 
+# Errors whose square is a normal double (sys.float_info: min 2.2e-308, max 1.8e308), so that
+# the covariance and its inverse stay finite and positive.
+_ERROR_MIN, _ERROR_MAX = 1.5e-154, 1.3e154
+
+
 def _read_row(number, cells, columns, source, limits):
     if len(cells) != len(columns):
         missing = len(cells) < len(columns)
@@ -307,6 +312,10 @@ def _read_row(number, cells, columns, source, limits):
     error = _number(cell_of("error"), source, number, columns["error"] + 1, "error")
     if not error > 0.0:
         fail("error", f"the error must be positive, got {error:g}")
+    if not _ERROR_MIN <= error <= _ERROR_MAX:
+        # its square (the covariance's diagonal) would underflow to 0 or overflow to inf
+        fail("error", f"the error {error:g} cannot be squared in double precision; expected "
+                      f"{_ERROR_MIN:.1e} <= error <= {_ERROR_MAX:.1e} (in the value's unit)")
     z_helio = z
     if cell_of("z_helio"):
         if not spec.heliocentric:

@@ -75,4 +75,7 @@ def card_status(state: codec.LinkState, slot: int) -> CardStatus:
         ("Ω_b", num(p["omega_b"], 5)), ("age today", num(e.get("age_today"), 5, "Gyr")),
         ("fate", str(e.get("fate", "–"))),
     ]
+    caution = curves["acoustic"].get("r_drag_caution")
+    if caution:
+        status["cautions"] = [f"r_drag: {caution}"]
     return status

@@ -2,29 +2,43 @@
 
 from __future__ import annotations
 
-import csv
 import io
 import json
-import math
 
 import numpy as np
 
 from layouts.text import render
 from server import codec, compute
+from server.csvsafe import SafeWriter
 from server.views.comparison import Comparison
 from server.views.page import panel
 
 __all__ = ["panel_csv", "parameter_sets"]
 
 
+def _is_number(cell) -> bool:
+    return isinstance(cell, dict) and "value" in cell
+
+
+def _data_cell(cell):
+    """A table cell as data: a number as its value (the writer prints it in full), text as text."""
+    return cell["value"] if _is_number(cell) else render(cell)
+
+
 def _write_table(writer, block: dict) -> None:
-    writer.writerow([f"# table: {render(block.get('title', ''))}"])
-    writer.writerow(block["header"])
     sections = block.get("sections") or [{"heading": None, "rows": block.get("rows", [])}]
+    rows = [row for section in sections for row in section["rows"]]
+    header = []
+    for i, title in enumerate(block["header"]):
+        # units go in the header only: the first number of the column names it
+        unit = next((row[i]["unit"] for row in rows if i < len(row) and _is_number(row[i]) and row[i]["unit"]), "")
+        header.append(f"{title} [{unit}]" if unit and "[" not in title else title)
+    writer.writerow([f"# table: {render(block.get('title', ''))}"])
+    writer.writerow(header)
     for section in sections:
         if section["heading"] is not None:
             writer.writerow([f"# {section['heading']}"])
-        writer.writerows([render(cell) for cell in row] for row in section["rows"])
+        writer.writerows([_data_cell(cell) for cell in row] for row in section["rows"])
 
 
 def _write_figure(writer, block: dict) -> None:
@@ -41,15 +55,17 @@ def _write_figure(writer, block: dict) -> None:
     for curve, series in groups:
         for s in series:
             name = render(s["name"])
-            for x, y in zip(np.asarray(s["x"], dtype=float), np.asarray(s["y"], dtype=float)):
-                writer.writerow([curve, name, f"{x:.6g}", "" if not math.isfinite(y) else f"{y:.6g}"])
+            writer.writerows([curve, name, x, y] for x, y in zip(np.asarray(s["x"], dtype=float).tolist(),
+                                                                np.asarray(s["y"], dtype=float).tolist()))
 
 
 def panel_csv(c: Comparison, tab: str | None = None) -> str:
-    """Long-format CSV of everything a panel shows: figure curves and tables (a grouped table's
-    rows under ``# <heading>`` lines), cells written as on screen."""
+    """CSV of everything a panel shows, as data a spreadsheet reads: each figure's curves and each
+    table under a ``# figure:`` / ``# table:`` line with a header row of its own (units in the
+    header only), numbers in full precision as plain ASCII, text that a spreadsheet would run as
+    a formula neutralised (`server.csvsafe`); a grouped table's rows under ``# <heading>``."""
     out = io.StringIO()
-    writer = csv.writer(out)
+    writer = SafeWriter(out)
     writer.writerow(["# Friedmann Desk", f"panel={tab or c.state.view.tab}", f"link=?{codec.encode(c.state)}"])
     for block in panel(c, tab)["blocks"]:
         if block["kind"] == "table":

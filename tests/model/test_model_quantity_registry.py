@@ -57,3 +57,28 @@ def test_a_malformed_entry_is_refused_naming_the_field(bad):
     fields = dict(key="x", unit="Mpc", symbol="x", description="x", theme="distances") | bad
     with pytest.raises(ValueError, match=next(iter(bad))):
         model.Quantity(**fields)
+
+
+def test_per_model_tables_are_safe_when_many_threads_evaluate_at_once():
+    # a threaded server (gunicorn gthread) evaluates from several threads: many distinct models
+    # through a small memo must neither raise nor mix models up (each checked against its own
+    # Einstein–de Sitter closed form, D_C = 2 D_H (1 − 1/√(1+z)))
+    import threading
+
+    errors = []
+
+    def work(offset):
+        try:
+            for i in range(40):
+                c = model.Cosmology(h0=60.0 + offset + 0.01 * i, omega_m=1.0, t_cmb=0.0)
+                d = float(model.evaluate(c, 3.0)["comoving_distance"])
+                assert abs(d / (2 * c.hubble_distance * 0.5) - 1) < 1e-9
+        except Exception as err:  # noqa: BLE001 - collected and reported below
+            errors.append(err)
+
+    threads = [threading.Thread(target=work, args=(n,)) for n in range(6)]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join()
+    assert errors == []

@@ -90,6 +90,11 @@ def test_every_kind_of_the_documentation_is_accepted():
 # --- refusals: (file text, line, column, words in the message) ------------------------------
 H = "z,kind,value,error\n"
 REFUSALS = [
+    # errors whose square leaves double precision (IEEE 754 binary64: normal numbers 2.2e-308 to
+    # 1.8e308) are refused in the error column, not blamed on a correlation the file does not have
+    (H + "0.5,hubble_parameter,90,1e-320\n", 2, 4, "cannot be squared"),
+    (H + "0.5,hubble_parameter,1e300,1e-300\n", 2, 4, "cannot be squared"),
+    (H + "0.5,hubble_parameter,90,1e200\n", 2, 4, "cannot be squared"),
     ("", 1, 1, "no header"),
     ("# only a comment\n", 1, 1, "no header"),
     (H, 2, 1, "no measurement rows"),

@@ -218,3 +218,23 @@ def test_bad_requests_are_refused_with_the_reason():
     for call, words in cases:
         with pytest.raises(FitError, match=words):
             call()
+
+
+def test_a_fit_and_a_map_past_their_deadline_stop_with_a_clear_error(demo_set):
+    import time as _time
+
+    import model
+
+    data = demo_set
+    cosmo = model.Cosmology(h0=67.36, omega_m=0.3153)
+    past = _time.monotonic() - 1.0
+    with pytest.raises(model.FitError, match="time budget"):
+        model.quick_fit(cosmo, data, ["omega_m", "w0"], deadline=past)
+    with pytest.raises(model.FitError, match="time budget"):
+        model.chi2_map(cosmo, data, "omega_m", np.linspace(0.2, 0.4, 40), "w0", np.linspace(-1.2, -0.8, 40),
+                       deadline=past)
+    # with time to spare the blocked map equals the one-pass result of the same nodes (2 x 1200)
+    a = model.chi2_map(cosmo, data, "omega_m", np.linspace(0.2, 0.4, 60), "w0", np.linspace(-1.2, -0.8, 40),
+                       deadline=_time.monotonic() + 600)
+    b = model.chi2_map(cosmo, data, "omega_m", np.linspace(0.2, 0.4, 60), "w0", np.linspace(-1.2, -0.8, 40))
+    np.testing.assert_array_equal(a.chi2, b.chi2)
