@@ -86,6 +86,7 @@ def test_an_installed_copy_loads_the_demo_through_the_app(wheel, tmp_path):
     outside = tmp_path / "elsewhere"
     outside.mkdir()
     environment = {k: v for k, v in os.environ.items() if k not in ("PYTHONPATH", "PYTHONHOME")}
+    environment["XDG_DATA_HOME"] = str(tmp_path / "data")  # the measurement store: not the user's own
     run = subprocess.run([str(python), "-c", script], cwd=outside, env=environment, capture_output=True,
                          text=True, timeout=240)
     assert run.returncode == 0, run.stderr[-3000:]
