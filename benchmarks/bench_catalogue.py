@@ -27,7 +27,7 @@ def _timed_download(client, body: bytes, models: str) -> tuple[float, int, bytes
     size, tail = 0, b""
     for chunk in response.response:  # streamed: read it chunk by chunk, as a client would
         size += len(chunk)
-        tail = (tail + chunk)[-100:]
+        tail = chunk[-100:] if len(chunk) >= 100 else (tail + chunk)[-100:]
     return time.perf_counter() - start, size, tail
 
 

@@ -150,8 +150,15 @@ def _rows(handle, start: int, z_index: int, width: int) -> Iterator[tuple[list, 
 
 def check(handle) -> int:
     """First pass: refuse a bad file (raises `CatalogueError`); returns the number of rows."""
+    return checked(handle)[0]
+
+
+def checked(handle) -> tuple[int, list[np.ndarray]]:
+    """`check`, and the redshifts of every chunk (NaN for lines passed through), which the
+    second pass then reuses instead of reading them again."""
     start, z_index, width = _header(handle)
-    return sum(int(np.count_nonzero(~np.isnan(z))) for _, z in _rows(handle, start, z_index, width))
+    redshifts = [z for _, z in _rows(handle, start, z_index, width)]
+    return sum(int(np.count_nonzero(~np.isnan(z))) for z in redshifts), redshifts
 
 
 def column_names(models: list[tuple[int, object]]) -> list[str]:
@@ -239,11 +246,17 @@ def _words_of(flat: np.ndarray, words: np.ndarray) -> np.ndarray:
 _ROW_SLICE = 2048  # rows assembled at a time (a few MB: the byte block stays in the CPU cache)
 
 
+def _format_pieces(texts: list[bytes], columns: np.ndarray) -> Iterator[bytes]:
+    """``text,cell,cell,...\n`` for every row, a few thousand rows a piece: `texts` are the rows
+    as read (bytes, without their line end), `columns` the numbers (rows × columns), 9
+    significant digits, NaN left empty."""
+    for i in range(0, len(texts), _ROW_SLICE):
+        yield _format_slice(texts[i:i + _ROW_SLICE], columns[i:i + _ROW_SLICE])
+
+
 def _format_rows(texts: list[bytes], columns: np.ndarray) -> bytes:
-    """``text,cell,cell,...\n`` for every row: `texts` are the rows as read (bytes, without their
-    line end), `columns` the numbers (rows × columns), 9 significant digits, NaN left empty."""
-    return b"".join(_format_slice(texts[i:i + _ROW_SLICE], columns[i:i + _ROW_SLICE])
-                    for i in range(0, len(texts), _ROW_SLICE))
+    """`_format_pieces` joined."""
+    return b"".join(_format_pieces(texts, columns))
 
 
 def _format_slice(texts: list[bytes], columns: np.ndarray) -> bytes:
@@ -273,27 +286,43 @@ def _format_block(columns: list[np.ndarray]) -> list[str]:
     return [row[1:] for row in text.decode("ascii").split("\n")[:-1]]
 
 
-def stream(handle, models: list[tuple[int, model.Cosmology]], deadline: float = math.inf) -> Iterator[bytes]:
-    """Second pass: the file with the columns added (chunks of UTF-8 bytes). Call `check` first.
-    Each chunk costs one `model.evaluate` per model; the last line says how many rows were
-    written (``# complete: N rows``), so a copy cut short on the way is plain to see. Past the
-    monotonic `deadline` the stream stops before its next chunk with a last line
-    ``# incomplete: ...`` saying so."""
+def _checked_lines(handle) -> list[bytes]:
+    """The lines of a file that `checked` accepted, as bytes without their ends (split in one C
+    call: the first pass has already refused whatever the line reader would)."""
+    handle.seek(0)
+    data = handle.read()
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    lines = data.split(b"\n")
+    if lines and lines[-1] == b"":
+        lines.pop()
+    if b"\r" in data:
+        lines = [line[:-1] if line.endswith(b"\r") else line for line in lines]
+    return lines
+
+
+def stream(handle, models: list[tuple[int, model.Cosmology]], deadline: float = math.inf,
+           redshifts: list[np.ndarray] | None = None) -> Iterator[bytes]:
+    """Second pass: the file with the columns added (chunks of UTF-8 bytes). Call `check` first
+    (or `checked`, and pass its `redshifts`). Each chunk costs one `model.evaluate` per model;
+    the last line says how many rows were written (``# complete: N rows``), so a copy cut short
+    on the way is plain to see. Past the monotonic `deadline` the stream stops before its next
+    chunk with a last line ``# incomplete: ...`` saying so."""
     start, z_index, width = _header(handle)
-    for number, text in _lines(handle):
-        if number == start:
-            yield (text + "," + ",".join(column_names(models)) + "\n").encode("utf-8")
-            break
-        yield (text + "\n").encode("utf-8")
+    if redshifts is None:
+        redshifts = checked(handle)[1]
+    lines = _checked_lines(handle)
+    names = ",".join(column_names(models)).encode("utf-8")
+    yield b"".join(line + b"\n" for line in lines[:start - 1]) + lines[start - 1] + b"," + names + b"\n"
     keys = list(model.QUANTITIES)
     written = 0
-    for lines, z in _rows(handle, start, z_index, width):
+    for k, z in enumerate(redshifts):
         if time.monotonic() > deadline:
             yield (f"# incomplete: stopped after {written} rows, at the time this server gives one "
                    "catalogue; send a smaller file, or fewer models\n").encode("ascii")
             return
+        texts = lines[start + k * CHUNK_ROWS:start + (k + 1) * CHUNK_ROWS]
         content = ~np.isnan(z)
-        texts = [text.encode("utf-8") for _, text in lines]
         if not content.any():
             yield b"".join(t + b"\n" for t in texts)
             continue
@@ -305,7 +334,7 @@ def stream(handle, models: list[tuple[int, model.Cosmology]], deadline: float = 
                     columns[:, i * len(keys) + j] = values[key]
         written += columns.shape[0]
         if content.all():
-            yield _format_rows(texts, columns)
+            yield from _format_pieces(texts, columns)  # pieces of a few MB: no copy of the chunk
             continue
         rows = iter(_format_rows([t for t, keep in zip(texts, content) if keep], columns).split(b"\n"))
         yield b"".join((next(rows) if keep else text) + b"\n" for text, keep in zip(texts, content.tolist()))
@@ -376,7 +405,7 @@ def handle():
     if handle_ is None:
         return refuse("redshifts", f"redshifts: the file is larger than the limit of {MAX_BYTES} bytes", 413)
     try:
-        rows = check(handle_)
+        rows, redshifts = checked(handle_)
     except CatalogueError as err:
         handle_.close()
         return refuse("redshifts", str(err), line=err.line, column=err.column)
@@ -388,7 +417,7 @@ def handle():
 
     def answer():
         try:
-            yield from stream(handle_, models, deadline)
+            yield from stream(handle_, models, deadline, redshifts)
         finally:
             handle_.close()
     return Response(stream_with_context(answer()), mimetype="text/csv",

@@ -27,7 +27,7 @@ def build(c: Comparison) -> PanelSpec:
         "model", "z* [dimensionless]", "r* = r_s(z*) [Mpc]", "θ* [deg]", "100 θ* [rad × 100]",
         "z_drag [dimensionless]", "r_drag [Mpc]"], "rows": rows},
         {"kind": "text", "text": SOURCES}]
-    blocks += [{"kind": "text", "tone": "caution", "text": f"{e.name}: r_drag {e.curves['acoustic']['r_drag_caution']}"}
+    blocks += [{"kind": "text", "tone": "caution", "text": f"{e.name}: {e.curves['acoustic']['r_drag_caution']}"}
                for e in c.entries if e.curves["acoustic"].get("r_drag_caution")]
     for key, title, symbol, kind in RATIOS:
         blocks.append({"kind": "figure", "id": f"fd-fig-{key}", "spec": {

@@ -77,5 +77,5 @@ def card_status(state: codec.LinkState, slot: int) -> CardStatus:
     ]
     caution = curves["acoustic"].get("r_drag_caution")
     if caution:
-        status["cautions"] = [f"r_drag: {caution}"]
+        status["cautions"] = [caution]
     return status

@@ -17,6 +17,6 @@ def test_card_and_acoustic_panel_caution_outside_the_fit_range(ctx):
     assert "cautions" not in cards.card_status(state, 1)
     spec = acoustic.build(compare(state))
     notes = [b["text"] for b in spec["blocks"] if b["kind"] == "text" and b.get("tone") == "caution"]
-    assert len(notes) == 1 and notes[0].startswith("Many neutrinos: r_drag")
+    assert len(notes) == 1 and notes[0].startswith("Many neutrinos: r_drag is")
     direct = model.acoustic_scales(state.model(2).to_cosmology())
     assert direct["r_drag_method"] == "integrated" and direct["r_drag"] == direct["r_drag_integrated"]
