@@ -51,8 +51,8 @@ def data_tool_options() -> DataToolOptions:
                        "0.8,hubble_parameter,95,9,my H(z) point",
         "limits": (f"Limits: measurement file ≤ {limits.max_bytes} bytes, ≤ {limits.max_rows} rows, cells ≤ "
                    f"{limits.max_cell_chars} characters; covariance file ≤ {limits.max_covariance_bytes} bytes. "
-                   "The data are stored on this server under their content hash and named in the link; stored "
-                   "sets expire."),
+                   "The data are stored on this server under their content hash and named in the link; they "
+                   "are kept until the server's administrator removes them."),
         "demo_label": "load demo data (synthetic)",
         "parameters": [{"name": n, "label": FIT_LABELS[n], "unit": _fit_unit(n), "low": codec.format_number(lo),
                         "high": codec.format_number(hi), "range": _range_text(n)}
@@ -109,7 +109,7 @@ def parse_bounds(free: list[str], bounds: dict) -> tuple[tuple[str, float, float
 
 def _slot_for_fit(state: codec.LinkState, slot):
     """The start model and its resolved form; raises `FitRequestError` (no data, no such slot,
-    invalid model) or `data_store.DataError` (the set has expired)."""
+    invalid model) or `data_store.DataError` (the set is not on this server)."""
     if state.view.data is None or "data" in dict(state.view.invalid):
         raise FitRequestError("data: no measurements in the link; upload or paste a table, or load the "
                               "synthetic demo data, first")
@@ -120,7 +120,7 @@ def _slot_for_fit(state: codec.LinkState, slot):
     resolved = compute.resolve(m)
     if resolved.problem is not None:
         raise FitRequestError(f"start model m{slot} is not valid: {resolved.problem.message}")
-    data_store.load(state.view.data)  # a clear message when the set has expired
+    data_store.load(state.view.data)  # a clear message when the set is not on this server
     return m, resolved
 
 
