@@ -56,6 +56,7 @@ def create_app(config: dict | None = None) -> dash.Dash:
         update_title=None,
         suppress_callback_exceptions=True,
     )
+    app.index_string = app.index_string.replace("<html>", '<html lang="en">', 1)  # for screen readers
     app.layout = page(callbacks.page_options())
     callbacks.register(app)
     install_guards(flask_app, app, prefix)

@@ -137,7 +137,10 @@ def register(app) -> None:
             logger.exception("panel %s failed for %r", state.view.tab, search)
             body = panel_body({"blocks": [{"kind": "text", "tone": "error",
                                            "text": f"This panel could not be drawn: {err}"}]})
-        dropped = [p.message for p in state.notices]
+        # dropped keys, and view values that could not be used (the default is drawn instead,
+        # while the control still shows what was typed)
+        dropped = [p.message for p in state.notices] + [
+            f"{p.message} (the default is shown instead)" for p in state.view.problems()]
         box = {"display": "block"} if (dropped or state.unknown) else {"display": "none"}
         base = (href or "").split("?")[0]
         tools = {"display": "grid"} if state.view.tab == "data" else {"display": "none"}

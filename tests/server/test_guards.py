@@ -169,3 +169,7 @@ def test_trusted_proxy_headers_are_believed_only_when_configured(app_factory):
         flask_app.test_client().get("/healthz", headers={"X-Forwarded-Proto": "https",
                                                          "X-Forwarded-For": "203.0.113.9"})
     assert seen[0] == ("http", "127.0.0.1") and seen[1] == ("https", "203.0.113.9")
+
+
+def test_the_page_says_its_language(client):
+    assert '<html lang="en">' in client.get("/").get_data(as_text=True)
