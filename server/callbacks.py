@@ -89,8 +89,7 @@ def register(app) -> None:
 
         def from_link(state):
             return (no_update, _cards(state), state.view.tab, codec.reference_slot(state),
-                    _reference_options(state), codec.format_number(state.view.zmax)
-                    if "zmax" not in dict(state.view.invalid) else dict(state.view.invalid)["zmax"])
+                    _reference_options(state), state.view.value_text("zmax"))
 
         def write(state):
             return ("?" + codec.encode(state),) + from_link(state)[1:]

@@ -27,7 +27,7 @@ __all__ = [
     "MAX_SLOTS", "MAX_LABEL_LENGTH", "MAX_TABLE_REDSHIFTS", "MAX_MASSES", "Z_MIN", "Z_MAX",
     "FULL_SKY_DEG2", "REQUIRED_DEFAULTS", "MODEL_KEYS", "FIELD_OF", "DISTANCE_CHOICES",
     "DATA_HASH_LENGTH", "R_D_CHOICES", "FIT_KEYS", "Refusal", "ViewKey", "VIEW_KEYS", "VIEW_KEY",
-    "format_number", "parse_number", "parameter_spec", "range_text", "default_of", "normal_masses",
+    "format_number", "readable_number", "parse_number", "parameter_spec", "range_text", "default_of", "normal_masses",
     "check_model_value", "invertible",
 ]
 
@@ -115,8 +115,13 @@ def parameter_spec(name: str) -> model.ParameterSpec:
     raise KeyError(name)
 
 
-def _nice(x: float) -> str:
-    # for reading, not for links: 1000 rather than 1e3
+def readable_number(x: float) -> str:
+    """For people, not for links: positional while that is short (5000 rather than 5e3, as
+    `format_number` writes it), else the shortest form; reads back as the same float.
+
+    >>> readable_number(5000.0), readable_number(0.0001), readable_number(1.5e-7)
+    ('5000', '0.0001', '1.5e-7')
+    """
     plain = format(Decimal(repr(float(x) + 0.0)).normalize(), "f")
     return plain if len(plain) <= 7 else format_number(x)
 
@@ -125,7 +130,7 @@ def range_text(spec: model.ParameterSpec) -> str:
     """``0 ≤ Ω_m ≤ 5`` (with the unit when there is one)."""
     unit = f" {spec.unit}" if spec.unit and spec.unit != "1" else ""
     low = "<" if spec.exclusive_minimum else "≤"
-    return f"{_nice(spec.minimum)} {low} {spec.symbol} ≤ {_nice(spec.maximum)}{unit}"
+    return f"{readable_number(spec.minimum)} {low} {spec.symbol} ≤ {readable_number(spec.maximum)}{unit}"
 
 
 def normal_masses(masses: tuple[float, ...]) -> tuple[float, ...]:

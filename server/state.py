@@ -192,6 +192,10 @@ class ViewState:
             return invalid[key]
         row = VIEW_KEY[key]
         value = getattr(self, row.attribute)
+        if isinstance(value, float):
+            return fields.readable_number(value)
+        if isinstance(value, tuple) and value and all(isinstance(v, float) for v in value):
+            return ",".join(map(fields.readable_number, value))
         return "" if value is None else row.format(value)
 
 

@@ -4,7 +4,7 @@
 from __future__ import annotations
 
 from layouts.specs import Card, CardStatus
-from server import codec, compute
+from server import codec, compute, fields
 from server.presets import PRESETS
 from server.views.comparison import num
 
@@ -23,12 +23,12 @@ def _value_text(m: codec.ModelState, key: str, name: str) -> str:
         return invalid[key]
     value = getattr(m, name)
     if name == "m_nu":
-        return ",".join(codec.format_number(v) for v in value)
+        return ",".join(fields.readable_number(v) for v in value)
     if value is None:
         return ""
     if name == "omega_k" and m.omega_de is None and value == 0.0:
         return ""  # flat by default; typing Ω_de instead must not clash with a visible 0
-    return codec.format_number(value)
+    return fields.readable_number(value)
 
 
 def cards(state: codec.LinkState) -> list[Card]:
