@@ -44,3 +44,17 @@ def render(text) -> str:
     if isinstance(text, (list, tuple)):
         return "".join(render(part) for part in text)
     return str(text)
+
+
+def counted(n: int, thing: str, things: str | None = None) -> str:
+    """``1 measurement``, ``2 measurements`` (`things` for an irregular plural)."""
+    return f"{n} {thing if n == 1 else (things or thing + 's')}"
+
+
+def byte_size(n: int) -> str:
+    """A size for people: ``512 bytes``, ``64 KiB``, ``1 MiB``, ``2.5 GiB`` (binary units)."""
+    for unit, size in (("GiB", 1 << 30), ("MiB", 1 << 20), ("KiB", 1 << 10)):
+        if n >= size:
+            value = n / size
+            return f"{value:.3g} {unit}"
+    return counted(n, "byte")

@@ -6,6 +6,7 @@ from __future__ import annotations
 import numpy as np
 
 from layouts.specs import FigureBlock, PanelSpec, TableBlock
+from layouts.text import counted
 from server.views.comparison import (KIND_TITLES, SYNTHETIC_NOTE, Comparison, is_synthetic, kind_rows,
                                      measurements, num, scores)
 from server.views.parts import failures_note
@@ -62,7 +63,7 @@ def _residual_figures(c: Comparison) -> list[FigureBlock]:
                           "y": np.asarray(r["pull"])[rows], "text": labels, "y_hover": "pull"})
         z = d.z[rows]
         blocks.append({"kind": "figure", "id": f"fd-fig-residual-{kind}", "spec": {
-            "title": f"Residuals of {title} ({rows.size} measurements): data − model, and pulls",
+            "title": f"Residuals of {title} ({counted(rows.size, 'measurement')}): data − model, and pulls",
             "x_title": "redshift z [dimensionless]", "x_hover": "z",
             "x_log": bool(z.size and z.min() > 0 and z.max() / z.min() > 20),
             "y_title": f"data − model [{unit or 'dimensionless'}]", "y_hover": "data − model", "unit": unit,

@@ -8,6 +8,7 @@ import math
 
 import model
 from layouts.specs import DataToolOptions, FitReport, MapResult
+from layouts.text import byte_size, counted
 from server import codec, compute, data_store, fields, state as states
 from server.views.comparison import SYNTHETIC_NOTE, is_synthetic, num
 
@@ -49,8 +50,8 @@ def data_tool_options() -> DataToolOptions:
                    + ", ".join(model.MEASUREMENT_KINDS) + ". Full description: docs/measurements-format.md."),
         "placeholder": "z,kind,value,error,label\n0.51,dm_over_rd,13.6,0.25,my survey z=0.51\n"
                        "0.8,hubble_parameter,95,9,my H(z) point",
-        "limits": (f"Limits: measurement file ≤ {limits.max_bytes} bytes, ≤ {limits.max_rows} rows, cells ≤ "
-                   f"{limits.max_cell_chars} characters; covariance file ≤ {limits.max_covariance_bytes} bytes. "
+        "limits": (f"Limits: measurement file ≤ {byte_size(limits.max_bytes)}, ≤ {limits.max_rows} rows, cells ≤ "
+                   f"{limits.max_cell_chars} characters; covariance file ≤ {byte_size(limits.max_covariance_bytes)}. "
                    "The data are stored on this server under their content hash and named in the link; they "
                    "are kept until the server's administrator removes them."),
         "demo_label": "load demo data (synthetic)",
@@ -72,7 +73,7 @@ def store_upload(state: codec.LinkState, measurements, covariance=None, name: st
     """Store an upload and return ``(new search, message)``; raises `data_store.DataError`."""
     stored = data_store.store(measurements, covariance, name)
     what = SYNTHETIC_NOTE if is_synthetic(stored) else (stored.name or "your table")
-    message = (f"Stored {len(stored.measurements)} measurements from {what} as data={stored.hash}; the link now "
+    message = (f"Stored {counted(len(stored.measurements), 'measurement')} from {what} as data={stored.hash}; the link now "
                "carries it.")
     return "?" + codec.encode(states.with_data(state, stored.hash)), message
 
@@ -138,6 +139,21 @@ def fit_request(state: codec.LinkState, slot, free: list[str], bounds: dict) -> 
             "bounds": [list(b) for b in spec], **result}
 
 
+# What scipy's least_squares says when it stops, in the words of the data tab.
+_OPTIMISER_WORDS = {
+    "`ftol`": "it stopped because χ² no longer improved (relative change below 1e-12)",
+    "`xtol`": "it stopped because the parameters no longer moved (relative step below 1e-12)",
+    "`gtol`": "it stopped because the slope of χ² vanished (gradient below 1e-12)",
+    "maximum number of function evaluations": "it stopped at its budget of evaluations before converging",
+}
+
+
+def optimiser_text(message: str) -> str:
+    """The optimiser's closing message in plain words (unknown ones are passed through)."""
+    found = [words for key, words in _OPTIMISER_WORDS.items() if key in message]
+    return "; ".join(found) + "." if found else message
+
+
 def fit_report(fit: dict) -> FitReport:
     """The tables of a fit's best values, 1σ errors and correlations, and its summary."""
     names = fit["names"]
@@ -154,7 +170,7 @@ def fit_report(fit: dict) -> FitReport:
          num(fit["p_value"], 3), f"); k = {fit['n_parameters']} free parameters: AIC = ", num(fit["aic"], 6),
          ", BIC = ", num(fit["bic"], 6), "."],
         ["r_d = ", num(fit["r_d"], 6, "Mpc"), how + "; supernova offset M = ", num(fit["offset"], 4, "mag"), "."],
-        f"Optimiser: {fit['n_evaluations']} residual evaluations; {fit['message']}",
+        f"Optimiser: {counted(fit['n_evaluations'], 'residual evaluation')}; {optimiser_text(fit['message'])}",
     ]
     warnings = [] if fit["success"] else ["The optimiser did not report convergence; treat the numbers with care."]
     if fit["at_bound"]:

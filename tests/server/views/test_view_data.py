@@ -151,3 +151,12 @@ def test_upload_contents_decoding():
     for bad in ("no comma", "data:text/csv;base64,@@@", "text/csv,abc"):
         with pytest.raises(data_store.DataRejected, match="measurements: "):
             upload_bytes(bad, "measurements")
+
+
+def test_the_optimisers_message_and_the_limits_are_in_plain_words():
+    # scipy.optimize.least_squares' own closing messages (scipy documentation, status codes 2-4)
+    assert "no longer improved" in data_tools.optimiser_text("`ftol` termination condition is satisfied.")
+    assert "parameters no longer moved" in data_tools.optimiser_text("`xtol` termination condition is satisfied.")
+    assert data_tools.optimiser_text("something new") == "something new"
+    limits = data_tools.data_tool_options()["limits"]
+    assert "1 MiB" in limits and "4 MiB" in limits and "bytes" not in limits
