@@ -16,12 +16,12 @@ from ._errors import ModelError, NoBigBangError, ParameterError
 from ._growth import linear_growth
 from ._inverse import INVERTIBLE, redshift_at
 from . import fitting
-from .fitting import (CONFIDENCE_LEVELS_2D, FIT_PARAMETERS, MEASUREMENT_COLUMNS, MEASUREMENT_KINDS,
+from .fitting import (DELIMITERS, CONFIDENCE_LEVELS_2D, FIT_PARAMETERS, MEASUREMENT_COLUMNS, MEASUREMENT_KINDS,
                       PREDICTIONS, Chi2Map, DistanceBatch, FitError, FitResult, GoodnessOfFit,
                       KindResiduals, MeasurementFormatError, MeasurementKind, MeasurementLimits,
                       MeasurementSet, Nuisances, TableFormatError, chi2_map, compare_models,
                       content_cells, goodness_of_fit, parse_measurements, quick_fit,
-                      read_lines, read_measurements, read_rows)
+                      read_lines, read_measurements, read_rows, sniff_delimiter)
 from ._quantities import QUANTITIES, THEMES, Quantity
 from ._params import MAX_NEUTRINO_SPECIES, PARAMETERS, Cosmology, ParameterSpec
 

@@ -14,7 +14,7 @@ from ._likelihood import GoodnessOfFit, KindResiduals, Nuisances, compare_models
 from ._maps import CONFIDENCE_LEVELS_2D, Chi2Map, chi2_map
 from ._measurements import (MEASUREMENT_COLUMNS, MeasurementFormatError, MeasurementLimits,
                             MeasurementSet, parse_measurements, read_measurements)
-from ._rows import TableFormatError, content_cells, read_lines, read_rows
+from ._rows import DELIMITERS, TableFormatError, content_cells, read_lines, read_rows, sniff_delimiter
 
 __all__ = [*_rows.__all__, *_kinds.__all__, *_measurements.__all__, *_likelihood.__all__,
            *_fit.__all__, *_maps.__all__, *_batch.__all__]

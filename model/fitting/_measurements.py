@@ -39,7 +39,7 @@ import numpy as np
 from scipy.linalg import lapack
 
 from ._kinds import MEASUREMENT_KINDS
-from ._rows import TableFormatError, read_rows
+from ._rows import TableFormatError, read_rows, sniff_delimiter
 
 __all__ = [
     "MEASUREMENT_COLUMNS",
@@ -170,6 +170,7 @@ class MeasurementSet:
     file_covariance: object
     file_cholesky: object
     covariance_source: str
+    delimiter: str = ","  # the measurement file's cell separator, as found in its header line
 
     def __len__(self):
         return int(self.z.size)
@@ -211,11 +212,14 @@ class MeasurementSet:
 # Rows and numbers
 
 
-def _content_lines(data, source, max_bytes):
-    """Non-blank, non-comment lines as (line_number, cells); reading faults re-raised as
+def _content_lines(data, source, max_bytes, delimiter=None):
+    """Non-blank, non-comment lines as (line_number, cells), the cells split at `delimiter`
+    (sniffed from the header line when None); reading faults re-raised as
     :class:`MeasurementFormatError`."""
     try:
-        yield from read_rows(data, source, max_bytes=max_bytes)
+        if delimiter is None:
+            delimiter = sniff_delimiter(data, source, max_bytes=max_bytes)
+        yield from read_rows(data, source, max_bytes=max_bytes, delimiter=delimiter)
     except MeasurementFormatError:
         raise
     except TableFormatError as err:
@@ -523,6 +527,7 @@ def parse_measurements(data, covariance=None, *, limits=MeasurementLimits()):
         file_covariance=None if matrix is None else _frozen(matrix),
         file_cholesky=None if factor is None else _frozen(factor),
         covariance_source=covariance_source,
+        delimiter=sniff_delimiter(data, source, max_bytes=limits.max_bytes),
     )
 
 

@@ -23,7 +23,7 @@ import re
 
 from .._errors import ModelError
 
-__all__ = ["TableFormatError", "read_lines", "content_cells", "read_rows"]
+__all__ = ["TableFormatError", "read_lines", "content_cells", "read_rows", "sniff_delimiter", "DELIMITERS"]
 
 # Characters refused anywhere: C0 controls except tab, DEL, C1 controls.
 _CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f]")
@@ -188,7 +188,22 @@ def _quote_fault(text):
     return 1, "the line cannot be read as comma-separated cells"
 
 
-def content_cells(text, source, number):
+# Cell separators a table may use, in the order they are looked for in its header line: a
+# spreadsheet's copy is tab-separated, and some locales save CSV with semicolons.
+DELIMITERS = {",": "comma", "\t": "tab", ";": "semicolon"}
+
+
+def sniff_delimiter(data, source="table", *, max_bytes=None):
+    """The cell separator of a table, from its first line that is not blank or a ``#`` comment:
+    a comma if it has one, else a tab, else a semicolon (a comma when there is none)."""
+    for _, text in read_lines(data, source, max_bytes=max_bytes):
+        stripped = text.strip(" \t")
+        if stripped and not stripped.startswith("#"):
+            return next((d for d in DELIMITERS if d in text), ",")
+    return ","
+
+
+def content_cells(text, source, number, delimiter=","):
     """The trimmed cells of one line, or None for a blank or ``#`` comment line.
 
     Raises
@@ -200,21 +215,21 @@ def content_cells(text, source, number):
     if not stripped or stripped.startswith("#"):
         return None
     if '"' not in text:  # what csv would give, without its per-line set-up
-        return [cell.strip(" \t") for cell in text.split(",")]
+        return [cell.strip(" \t") for cell in text.split(delimiter)]
     try:
-        cells = next(csv.reader([text], strict=True, skipinitialspace=True))
+        cells = next(csv.reader([text], strict=True, skipinitialspace=True, delimiter=delimiter))
     except csv.Error:
         column, reason = _quote_fault(text)
         raise TableFormatError(source, number, column, reason) from None
     return [cell.strip(" \t") for cell in cells]
 
 
-def read_rows(data, source, *, max_bytes=None):
+def read_rows(data, source, *, max_bytes=None, delimiter=","):
     """The rows of a text table as ``(line_number, cells)``, blank and comment lines skipped.
 
     :func:`read_lines` followed by :func:`content_cells`; raises :class:`TableFormatError`.
     """
     for number, text in read_lines(data, source, max_bytes=max_bytes):
-        cells = content_cells(text, source, number)
+        cells = content_cells(text, source, number, delimiter)
         if cells is not None:
             yield number, cells

@@ -46,7 +46,8 @@ def data_tool_options() -> DataToolOptions:
     limits = data_store.LIMITS
     return {
         "format": ("One row per measurement: a header line naming the columns z, kind, value, error (required) "
-                   "and label, z_helio, group, correlation (optional), then comma-separated rows; kinds: "
+                   "and label, z_helio, group, correlation (optional), then rows separated by commas (or tabs, as a "
+                   "spreadsheet copies them, or semicolons); kinds: "
                    + ", ".join(model.MEASUREMENT_KINDS) + ". Full description: docs/measurements-format.md."),
         "placeholder": "z,kind,value,error,label\n0.51,dm_over_rd,13.6,0.25,my survey z=0.51\n"
                        "0.8,hubble_parameter,95,9,my H(z) point",
@@ -73,8 +74,10 @@ def store_upload(state: codec.LinkState, measurements, covariance=None, name: st
     """Store an upload and return ``(new search, message)``; raises `data_store.DataError`."""
     stored = data_store.store(measurements, covariance, name)
     what = SYNTHETIC_NOTE if is_synthetic(stored) else (stored.name or "your table")
-    message = (f"Stored {counted(len(stored.measurements), 'measurement')} from {what} as data={stored.hash}; the link now "
-               "carries it.")
+    separator = model.DELIMITERS.get(stored.measurements.delimiter, "comma")
+    read_as = "" if separator == "comma" else f" (read as {separator}-separated, from its header line)"
+    message = (f"Stored {counted(len(stored.measurements), 'measurement')} from {what}{read_as} as "
+               f"data={stored.hash}; the link now carries it.")
     return "?" + codec.encode(states.with_data(state, stored.hash)), message
 
 

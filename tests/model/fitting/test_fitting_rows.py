@@ -80,3 +80,17 @@ def test_quoted_lines_split_as_the_csv_module_writes_them(cells):
         assert got is None
     else:
         assert got == [c.strip(" \t") for c in cells]
+
+
+def test_tab_and_semicolon_tables_read_as_the_same_measurements():
+    # a spreadsheet copies cells tab-separated; some locales save CSV with semicolons
+    import model
+
+    text = "z,kind,value,error,label\n0.51,dm_over_rd,13.6,0.25,a b\n0.8,hubble_parameter,95,9,\"c, d\"\n"
+    comma = model.parse_measurements(text.encode())
+    for separator in ("\t", ";"):
+        other = text.replace(",", separator).replace('"c' + separator + ' d"', '"c, d"')
+        got = model.parse_measurements(other.encode())
+        assert got.delimiter == separator
+        assert got.value.tolist() == comma.value.tolist() and got.label == comma.label
+    assert comma.delimiter == "," and model.DELIMITERS[comma.delimiter] == "comma"

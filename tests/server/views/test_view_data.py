@@ -160,3 +160,10 @@ def test_the_optimisers_message_and_the_limits_are_in_plain_words():
     assert data_tools.optimiser_text("something new") == "something new"
     limits = data_tools.data_tool_options()["limits"]
     assert "1 MiB" in limits and "4 MiB" in limits and "bytes" not in limits
+
+
+def test_a_pasted_spreadsheet_table_is_stored_and_the_message_says_how_it_was_read(ctx):
+    table = "z\tkind\tvalue\terror\n0.51\tdm_over_rd\t13.6\t0.25\n0.8\thubble_parameter\t95\t9\n"
+    search, message = data_tools.store_upload(codec.decode("m1.h0=70"), table, None, "pasted table")
+    assert "Stored 2 measurements" in message and "read as tab-separated" in message
+    assert "data=" in search
