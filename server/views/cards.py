@@ -8,13 +8,16 @@ from server import codec, compute, fields
 from server.presets import PRESETS
 from server.views.comparison import num
 
-__all__ = ["cards", "card_status", "FIELD_HINTS"]
+__all__ = ["cards", "card_status", "FIELD_HINTS", "HINT_LENGTH"]
 
+# What an empty input means, short enough to fit the input (about 20 characters at the cards'
+# width); the range line under each input says the rest.
 FIELD_HINTS = {
-    "omega_b": "empty: 0.157 of the cold matter",
-    "omega_k": "empty: flat, or derived from Ω_de",
-    "omega_de": "empty: derived (closes the budget)",
+    "omega_b": "empty = 0.157 Ω_cb",
+    "omega_k": "empty = flat",
+    "omega_de": "empty = derived",
 }
+HINT_LENGTH = 20
 
 
 def _value_text(m: codec.ModelState, key: str, name: str) -> str:

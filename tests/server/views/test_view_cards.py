@@ -21,3 +21,12 @@ def test_numbers_are_shown_for_people_and_read_back_as_the_same_link(ctx):
     again = states.apply_inputs(link, params, [("sky", link.view.value_text("sky")),
                                                ("zs", link.view.value_text("zs"))])
     assert codec.encode(again) == codec.encode(link)
+
+
+def test_placeholders_fit_their_inputs(ctx):
+    # the cards' inputs show about 20 characters (measured on a 1280 x 800 screenshot)
+    from server.views.cards import HINT_LENGTH
+
+    for card in cards(codec.decode("m1.h0=70&m2.om=0.3")):
+        for field in card["fields"]:
+            assert len(field["placeholder"]) <= HINT_LENGTH, field
