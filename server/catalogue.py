@@ -19,7 +19,7 @@ import numpy as np
 import model
 from server import codec
 
-__all__ = ["CatalogueError", "MAX_ROWS", "MAX_BYTES", "CHUNK_ROWS", "check", "stream", "column_names"]
+__all__ = ["CatalogueError", "MAX_ROWS", "MAX_BYTES", "CHUNK_ROWS", "checked", "stream", "column_names"]
 
 MAX_ROWS = 1_000_000
 MAX_BYTES = 64 << 20  # 64 MiB: a million rows of a few columns (judgement, no source)
@@ -148,14 +148,10 @@ def _rows(handle, start: int, z_index: int, width: int) -> Iterator[tuple[list, 
         yield parsed(chunk)
 
 
-def check(handle) -> int:
-    """First pass: refuse a bad file (raises `CatalogueError`); returns the number of rows."""
-    return checked(handle)[0]
-
-
 def checked(handle) -> tuple[int, list[np.ndarray]]:
-    """`check`, and the redshifts of every chunk (NaN for lines passed through), which the
-    second pass then reuses instead of reading them again."""
+    """First pass: refuse a bad file (raises `CatalogueError`); returns the number of rows and
+    the redshifts of every chunk (NaN for lines passed through), which the second pass then
+    reuses instead of reading them again."""
     start, z_index, width = _header(handle)
     redshifts = [z for _, z in _rows(handle, start, z_index, width)]
     return sum(int(np.count_nonzero(~np.isnan(z))) for z in redshifts), redshifts
@@ -303,8 +299,8 @@ def _checked_lines(handle) -> list[bytes]:
 
 def stream(handle, models: list[tuple[int, model.Cosmology]], deadline: float = math.inf,
            redshifts: list[np.ndarray] | None = None) -> Iterator[bytes]:
-    """Second pass: the file with the columns added (chunks of UTF-8 bytes). Call `check` first
-    (or `checked`, and pass its `redshifts`). Each chunk costs one `model.evaluate` per model;
+    """Second pass: the file with the columns added (chunks of UTF-8 bytes). Call `checked` first
+    and pass its `redshifts`. Each chunk costs one `model.evaluate` per model;
     the last line says how many rows were written (``# complete: N rows``), so a copy cut short
     on the way is plain to see. Past the monotonic `deadline` the stream stops before its next
     chunk with a last line ``# incomplete: ...`` saying so."""
