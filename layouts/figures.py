@@ -178,6 +178,17 @@ def _annotation_x(x: float, log: bool) -> float:
     return float(np.log10(x)) if log and x > 0 else x
 
 
+def _strip_points(strip: dict) -> list[dict]:
+    """The measurements divided by the reference's prediction, drawn on the strip (``y2``) as the
+    main plot draws its data; their legend entry is the main plot's."""
+    traces = []
+    for p in strip.get("points", []):
+        trace = _points_trace(p, {"x_hover": "z", "y_hover": strip["y_title"]}, "y2", unit=strip.get("unit", ""))
+        trace["showlegend"] = False
+        traces.append(trace)
+    return traces
+
+
 def figure(spec: dict) -> dict:
     """One plot over redshift (or another x), with an optional strip against the reference."""
     strip = spec.get("strip")
@@ -205,6 +216,7 @@ def figure(spec: dict) -> dict:
             trace = _trace(s, spec, "y2", unit=strip.get("unit", ""), crowded=crowded)
             trace["showlegend"] = False
             data.append(trace)
+        data += _strip_points(strip)
     shapes, annotations = [], []
     for marker in spec.get("markers", []):
         shapes.append({"type": "line", "xref": "x", "yref": "paper", "x0": marker["x"], "x1": marker["x"],

@@ -61,6 +61,7 @@ class Strip(TypedDict):
     y_title: str
     series: list[Series]
     unit: str
+    points: NotRequired[list[Series]]  # measurements divided by the reference's prediction (role data)
 
 
 class Marker(TypedDict):

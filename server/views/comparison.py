@@ -16,7 +16,7 @@ from server import codec, compute, data_store
 from server.cache import fetch_many
 
 __all__ = ["Entry", "Comparison", "compare", "num", "key_of", "measurements", "scores", "is_synthetic", "kind_rows",
-           "data_points", "residual_points", "KIND_TITLES", "DISTANCE_KIND", "SYNTHETIC_NOTE"]
+           "data_points", "strip_points", "residual_points", "KIND_TITLES", "DISTANCE_KIND", "SYNTHETIC_NOTE"]
 
 # How each measurement kind is named on screen, and its unit as shown (the model's kind registry).
 KIND_TITLES = {key: (kind.title, kind.unit) for key, kind in model.MEASUREMENT_KINDS.items()}
@@ -148,6 +148,28 @@ def data_points(c: Comparison, kind: str, transform=None) -> list[Series]:
         value, error = transform(z, value, error)
     return [{"name": f"{_data_name(stored)}: {KIND_TITLES[kind][0]} ({rows.size})", "role": "data",
              "x": z, "y": value, "error": error, "text": [d.label[i] for i in rows]}]
+
+
+def strip_points(c: Comparison, kind: str) -> list[Series]:
+    """The measurements of one kind divided by the reference model's prediction at each point
+    (error bars divided likewise), for the strip of ratios to the reference; limited to the drawn
+    redshift range. Empty when the link has no such data or the reference cannot be scored."""
+    stored, _ = measurements(c)
+    if stored is None or c.reference is None:
+        return []
+    ref = scores(c).get(c.reference.slot, {})
+    if "prediction" not in ref:
+        return []
+    rows = _drawn_rows(c, stored, kind)
+    if rows.size == 0:
+        return []
+    d = stored.measurements
+    predicted = np.asarray(ref["prediction"], dtype=float)[rows]
+    with np.errstate(all="ignore"):
+        value, error = d.value[rows] / predicted, d.error[rows] / predicted
+    return [{"name": f"{_data_name(stored)} / {c.reference.name}: {KIND_TITLES[kind][0]} ({rows.size})",
+             "role": "data", "x": d.z[rows], "y": value, "error": np.abs(error), "y_hover": "data / reference",
+             "text": [d.label[i] for i in rows]}]
 
 
 def residual_points(c: Comparison, kind: str) -> list[Series]:

@@ -6,7 +6,8 @@ from __future__ import annotations
 import model
 from layouts.specs import PanelSpec
 from server import codec
-from server.views.comparison import DISTANCE_KIND, Comparison, data_points, residual_points
+from server.views.comparison import (DISTANCE_KIND, Comparison, data_points, residual_points,
+                                     strip_points)
 from server.views.parts import curve_series, failures_note, measurement_note, quantity_figure, strip, z_axis
 
 __all__ = ["build"]
@@ -26,6 +27,8 @@ def build(c: Comparison) -> PanelSpec:
     # the link's measurements on the matching plots (nothing when the link names none)
     if choice in DISTANCE_KIND:
         distance["spec"]["points"] = data_points(c, DISTANCE_KIND[choice])
+        if distance["spec"]["strip"]:
+            distance["spec"]["strip"]["points"] = strip_points(c, DISTANCE_KIND[choice])
     modulus = {"kind": "figure", "id": "fd-fig-dmu", "spec": {
         "title": f"Distance-modulus difference Δμ against {c.reference.name if c.reference else 'reference'}",
         **z_axis(c), "y_title": "Δμ [mag]", "y_hover": "Δμ", "unit": "mag",
@@ -37,6 +40,8 @@ def build(c: Comparison) -> PanelSpec:
         "series": curve_series(c, lambda cv: cv["hubble_over_1pz"]),
         "strip": strip(c, lambda cv: cv["hubble_over_1pz"]),
         "points": data_points(c, "hubble_parameter", lambda z, v, err: (v / (1 + z), err / (1 + z)))}}
+    if expansion["spec"]["strip"]:  # H_data/(1+z) over H_ref/(1+z) is H_data / H_ref
+        expansion["spec"]["strip"]["points"] = strip_points(c, "hubble_parameter")
     blocks = [distance, modulus]
     if modulus["spec"]["points"]:
         blocks.append({"kind": "text", "text": OFFSET_NOTE})
