@@ -25,7 +25,7 @@ from server.tabs import TAB_KEYS
 
 __all__ = [
     "MAX_SLOTS", "MAX_LABEL_LENGTH", "MAX_TABLE_REDSHIFTS", "MAX_MASSES", "Z_MIN", "Z_MAX",
-    "FULL_SKY_DEG2", "REQUIRED_DEFAULTS", "MODEL_KEYS", "FIELD_OF", "DISTANCE_CHOICES",
+    "FULL_SKY_DEG2", "MAX_BIN_EDGES", "REQUIRED_DEFAULTS", "MODEL_KEYS", "FIELD_OF", "DISTANCE_CHOICES",
     "DATA_HASH_LENGTH", "R_D_CHOICES", "FIT_KEYS", "Refusal", "ViewKey", "VIEW_KEYS", "VIEW_KEY",
     "format_number", "readable_number", "parse_number", "parameter_spec", "range_text", "default_of", "normal_masses",
     "check_model_value", "invertible",
@@ -287,6 +287,29 @@ def _numbers(values) -> str:
     return ",".join(map(format_number, values))
 
 
+def _residual_choice(raw: str):
+    if raw == "all":
+        return raw
+    if not re.fullmatch(r"[1-9]", raw) or not 1 <= int(raw) <= MAX_SLOTS:
+        return Refusal(f"res: {raw!r} is not a residual choice; expected all or a model slot 1 to {MAX_SLOTS}")
+    return int(raw)
+
+
+MAX_BIN_EDGES = 21  # 20 bins: more would be the per-point residuals again (judgement, no source)
+
+
+def _bin_edges(raw: str):
+    what = (f"2 to {MAX_BIN_EDGES} increasing comma-separated redshifts, each 0 ≤ z ≤ {format_number(Z_MAX)}, "
+            "e.g. 0,0.5,1,2")
+    parts = raw.split(",") if raw.strip() else []
+    if not 2 <= len(parts) <= MAX_BIN_EDGES:
+        return Refusal(f"rbin: {len(parts)} values given; expected {what}")
+    values = _redshift_values("rbin", parts, 0.0, what)
+    if not isinstance(values, Refusal) and any(b <= a for a, b in zip(values, values[1:])):
+        return Refusal(f"rbin: {raw!r} is not increasing; expected {what}")
+    return values
+
+
 # Canonical order of the view keys in a link (after ``v``, the scheme version).
 VIEW_KEYS: tuple[ViewKey, ...] = (
     ViewKey("ref", "reference", _ref, str, None),
@@ -306,5 +329,7 @@ VIEW_KEYS: tuple[ViewKey, ...] = (
     ViewKey("data", "data", _data, str, None),
     ViewKey("rd", "r_d", _choice("rd", "a sound-horizon choice", lambda: R_D_CHOICES), str, "model"),
     ViewKey("fit", "fit", _fit, lambda v: f"{v[0]}:{','.join(v[1])}", None),
+    ViewKey("res", "residual_slot", _residual_choice, str, "all"),
+    ViewKey("rbin", "residual_bins", _bin_edges, _numbers, None),
 )
 VIEW_KEY = {row.key: row for row in VIEW_KEYS}

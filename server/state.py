@@ -180,6 +180,8 @@ class ViewState:
     data: str | None = _view_default("data")
     r_d: str = _view_default("rd")
     fit: tuple[int, tuple[str, ...]] | None = _view_default("fit")
+    residual_slot: str | int = _view_default("res")
+    residual_bins: tuple[float, ...] | None = _view_default("rbin")
     invalid: tuple[tuple[str, str], ...] = ()
 
     def problems(self) -> tuple[Problem, ...]:
