@@ -1,0 +1,163 @@
+"""The page as a group meeting sees it, in headless Chromium: where the first figure starts at
+three window sizes, how long a four-model link takes to draw its open tab and to redraw after
+one edit, and how many bytes each tab's updates carry.
+
+Targets (meeting-room issue): the first figure within the first screen at 1280×800 and within
+1.5 screens at 1024×768; a four-model link draws its open tab in ≤ 1.0 s and one edit redraws
+in ≤ 0.4 s, both medians of five with the server's cache warm.
+
+"Drawn" means every Plotly figure (or table) of the open panel is in the DOM with its traces
+and no loading spinner is up, measured from the navigation request (draw) or from the Enter
+key in the edited input (edit).
+"""
+
+import os
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+import urllib.parse
+import urllib.request
+from pathlib import Path
+
+from benchmarks._serving import free_port
+from server.tabs import TAB_KEYS as TABS  # every registered panel
+
+ROOT = Path(__file__).resolve().parent.parent
+SIZES = ((1280, 800), (1024, 768), (1600, 1000))
+# Four invented candidates of a made-up survey team (the README's scenario).
+FOUR = [("m1.label", "Lantern baseline"), ("m2.label", "Candidate Ember"), ("m2.w0", "-0.88"),
+        ("m2.wa", "-0.35"), ("m3.label", "Candidate Cinder"), ("m3.ok", "-0.015"),
+        ("m4.label", "Candidate Ash"), ("m4.mnu", "0.15")]
+
+_DRAWN = """
+const panel = document.getElementById('fd-panel');
+if (!panel || document.querySelector('._dash-loading')) return false;
+if (document.querySelector('[data-dash-is-loading="true"]')) return false;
+const plots = panel.querySelectorAll('.js-plotly-plot');
+const tables = panel.querySelectorAll('table, .fd-grid');
+if (plots.length === 0 && tables.length === 0) return false;
+for (const g of panel.querySelectorAll('.fd-grid')) { if (!g.querySelector('.ag-row')) return false; }
+const before = window.__fdBefore || [];
+for (const p of plots) {
+  if (!p.querySelector('.main-svg') || !(p._fullData && p._fullData.length)) return false;
+  if (before.includes(p.data)) return false;
+}
+return true;
+"""
+
+_FIRST_FIGURE = """
+const p = document.querySelector('#fd-panel .js-plotly-plot');
+return p ? p.getBoundingClientRect().top + window.scrollY : null;
+"""
+
+_PAYLOAD = """
+return performance.getEntriesByType('resource')
+  .filter(e => e.name.includes('_dash-update-component'))
+  .reduce((s, e) => s + (e.decodedBodySize || 0), 0);
+"""
+
+
+def _driver(width=1280, height=800):
+    from selenium import webdriver
+    from selenium.webdriver.chrome.options import Options
+
+    options = Options()
+    options.binary_location = "/usr/bin/chromium"
+    for flag in ("--headless=new", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage",
+                 "--disable-background-networking", "--disable-component-update",
+                 "--disable-sync", "--no-first-run", f"--window-size={width},{height}",
+                 f"--user-data-dir={tempfile.mkdtemp()}"):
+        options.add_argument(flag)
+    driver = webdriver.Chrome(options=options)
+    # the window size includes no browser chrome in headless mode: the viewport is what is asked
+    driver.set_window_size(width, height)
+    return driver
+
+
+def _wait_drawn(driver, start, timeout=30.0):
+    while time.perf_counter() - start < timeout:
+        if driver.execute_script(_DRAWN):
+            return time.perf_counter() - start
+        time.sleep(0.01)
+    raise TimeoutError("panel not drawn in time")
+
+
+def _draw(driver, url):
+    driver.execute_script("window.__fdBefore = [];")
+    start = time.perf_counter()
+    driver.get(url)
+    return _wait_drawn(driver, start)
+
+
+def _edit(driver, value):
+    """Type `value` into m2's w₀ box (opening its card if the page shows chips) and time the redraw."""
+    import json
+
+    from selenium.webdriver.common.by import By
+    from selenium.webdriver.common.keys import Keys
+
+    dom = json.dumps({"key": "w0", "slot": 2, "type": "fd-param"}, separators=(",", ":"))
+    box = driver.find_element(By.XPATH, f"//*[@id='{dom}']")
+    if not box.is_displayed():
+        chips = driver.find_elements(By.CSS_SELECTOR, ".fd-chip")
+        if len(chips) >= 2:
+            chips[1].click()
+            time.sleep(0.3)
+    box.clear()
+    box.send_keys(value)
+    driver.execute_script(
+        "window.__fdBefore = Array.from(document.querySelectorAll('#fd-panel .js-plotly-plot')).map(p => p.data);")
+    start = time.perf_counter()
+    box.send_keys(Keys.ENTER)
+    time.sleep(0.02)
+    return _wait_drawn(driver, start)
+
+
+def run():
+    port = free_port()
+    env = {**os.environ, "FDESK_CACHE_DIR": tempfile.mkdtemp(), "XDG_DATA_HOME": tempfile.mkdtemp()}
+    server = subprocess.Popen([sys.executable, "-m", "server", "--port", str(port)], cwd=ROOT,
+                              env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    drivers = []
+    try:
+        for _ in range(150):
+            try:
+                urllib.request.urlopen(f"http://127.0.0.1:{port}/healthz", timeout=1)
+                break
+            except OSError:
+                time.sleep(0.2)
+        base = f"http://127.0.0.1:{port}/?"
+        link = base + urllib.parse.urlencode(FOUR + [("tab", "distances")], quote_via=urllib.parse.quote)
+        for width, height in SIZES:
+            driver = _driver(width, height)
+            drivers.append(driver)
+            _draw(driver, link)
+            top = driver.execute_script(_FIRST_FIGURE)
+            print(f"{width}×{height}: first figure starts at y = {top:.0f} px = {top / height:.2f} screens")
+        driver = drivers[0]  # 1280×800
+        for tab in TABS:
+            url = base + urllib.parse.urlencode(FOUR + [("tab", tab)], quote_via=urllib.parse.quote)
+            try:
+                _draw(driver, url)  # server cache and browser assets warm
+                times = [_draw(driver, url) for _ in range(5)]
+            except TimeoutError:
+                print(f"tab {tab:9s}: not drawn (no such tab, or no figure)")
+                continue
+            payload = driver.execute_script(_PAYLOAD)
+            print(f"tab {tab:9s}: drawn in {statistics.median(times):.2f} s (median of 5, warm) "
+                  f"= {statistics.median(times) / 1.0:.2f} of the 1.0 s budget; updates {payload / 1024:.0f} KiB")
+        _draw(driver, link)
+        edits = [_edit(driver, f"-0.{80 + k}") for k in range(6)][1:]
+        edit = statistics.median(edits)
+        print(f"one edit (m2 w0) redraws Distances in {edit:.2f} s (median of 5) = {edit / 0.4:.2f} of the 0.4 s budget")
+    finally:
+        for driver in drivers:
+            driver.quit()
+        server.terminate()
+        server.wait(timeout=10)
+
+
+if __name__ == "__main__":
+    run()
