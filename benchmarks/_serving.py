@@ -19,7 +19,7 @@ import time
 from pathlib import Path
 
 __all__ = ["ROOT", "LOOPBACK", "free_port", "get", "post", "RedisServer", "Gunicorn", "gunicorn_command",
-           "page_update_payload"]
+           "page_update_payload", "DevServer", "chromium"]
 
 ROOT = Path(__file__).resolve().parent.parent
 LOOPBACK = "127.0.0.1"
@@ -194,6 +194,48 @@ class Gunicorn:
 
     def __exit__(self, *exc):
         self.stop()
+
+
+class DevServer:
+    """``python -m server`` on a free loopback port with a private cache folder and data home,
+    for the browser benchmarks; a context manager that waits for ``/healthz``."""
+
+    def __init__(self):
+        self.port = free_port()
+        self.base = f"http://{LOOPBACK}:{self.port}/"
+        env = {**os.environ, "FDESK_CACHE_DIR": tempfile.mkdtemp(), "XDG_DATA_HOME": tempfile.mkdtemp()}
+        self._process = subprocess.Popen([sys.executable, "-m", "server", "--port", str(self.port)], cwd=ROOT,
+                                         env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+
+    def _healthy(self) -> bool:
+        try:
+            return get(self.port, "/healthz", timeout=1)[0] == 200
+        except OSError:
+            return False
+
+    def __enter__(self) -> "DevServer":
+        _wait(self._healthy, 30.0, "the development server answering /healthz")
+        return self
+
+    def __exit__(self, *exc):
+        self._process.terminate()
+        self._process.wait(timeout=10)
+
+
+def chromium(width: int = 1400, height: int = 900):
+    """A headless Chromium (selenium) with the flags of ../shared/TOOLCHAIN.md and a viewport of
+    `width` × `height` CSS pixels, with its own throwaway profile."""
+    from selenium import webdriver
+    from selenium.webdriver.chrome.options import Options
+
+    options = Options()
+    options.binary_location = "/usr/bin/chromium"
+    for flag in ("--headless=new", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage",
+                 "--disable-background-networking", "--disable-component-update",
+                 "--disable-sync", "--no-first-run", f"--window-size={width},{height}",
+                 f"--user-data-dir={tempfile.mkdtemp()}"):
+        options.add_argument(flag)
+    return webdriver.Chrome(options=options)
 
 
 def page_update_payload(dependencies: list[dict], search: str, href: str = "http://127.0.0.1/") -> dict:

@@ -11,20 +11,14 @@ and no loading spinner is up, measured from the navigation request (draw) or fro
 key in the edited input (edit).
 """
 
-import os
+import json
 import statistics
-import subprocess
-import sys
-import tempfile
 import time
 import urllib.parse
-import urllib.request
-from pathlib import Path
 
-from benchmarks._serving import free_port
+from benchmarks._serving import DevServer, chromium
 from server.tabs import TAB_KEYS as TABS  # every registered panel
 
-ROOT = Path(__file__).resolve().parent.parent
 SIZES = ((1280, 800), (1024, 768), (1600, 1000))
 # Four invented candidates of a made-up survey team (the README's scenario).
 FOUR = [("m1.label", "Lantern baseline"), ("m2.label", "Candidate Ember"), ("m2.w0", "-0.88"),
@@ -59,18 +53,8 @@ return performance.getEntriesByType('resource')
 """
 
 
-def _driver(width=1280, height=800):
-    from selenium import webdriver
-    from selenium.webdriver.chrome.options import Options
-
-    options = Options()
-    options.binary_location = "/usr/bin/chromium"
-    for flag in ("--headless=new", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage",
-                 "--disable-background-networking", "--disable-component-update",
-                 "--disable-sync", "--no-first-run", f"--window-size={width},{height}",
-                 f"--user-data-dir={tempfile.mkdtemp()}"):
-        options.add_argument(flag)
-    driver = webdriver.Chrome(options=options)
+def _driver(width: int, height: int):
+    driver = chromium(width, height)
     # the window size includes no browser chrome in headless mode: the viewport is what is asked
     driver.set_window_size(width, height)
     return driver
@@ -93,8 +77,6 @@ def _draw(driver, url):
 
 def _edit(driver, value):
     """Type `value` into m2's w₀ box (opening its card if the page shows chips) and time the redraw."""
-    import json
-
     from selenium.webdriver.common.by import By
     from selenium.webdriver.common.keys import Keys
 
@@ -116,47 +98,38 @@ def _edit(driver, value):
 
 
 def run():
-    port = free_port()
-    env = {**os.environ, "FDESK_CACHE_DIR": tempfile.mkdtemp(), "XDG_DATA_HOME": tempfile.mkdtemp()}
-    server = subprocess.Popen([sys.executable, "-m", "server", "--port", str(port)], cwd=ROOT,
-                              env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     drivers = []
-    try:
-        for _ in range(150):
-            try:
-                urllib.request.urlopen(f"http://127.0.0.1:{port}/healthz", timeout=1)
-                break
-            except OSError:
-                time.sleep(0.2)
-        base = f"http://127.0.0.1:{port}/?"
-        link = base + urllib.parse.urlencode(FOUR + [("tab", "distances")], quote_via=urllib.parse.quote)
-        for width, height in SIZES:
-            driver = _driver(width, height)
-            drivers.append(driver)
+    with DevServer() as server:
+        try:
+            base = server.base + "?"
+            link = base + urllib.parse.urlencode(FOUR + [("tab", "distances")], quote_via=urllib.parse.quote)
+            for width, height in SIZES:
+                driver = _driver(width, height)
+                drivers.append(driver)
+                _draw(driver, link)
+                top = driver.execute_script(_FIRST_FIGURE)
+                print(f"{width}×{height}: first figure starts at y = {top:.0f} px = {top / height:.2f} screens")
+            driver = drivers[0]  # 1280×800
+            for tab in TABS:
+                url = base + urllib.parse.urlencode(FOUR + [("tab", tab)], quote_via=urllib.parse.quote)
+                try:
+                    _draw(driver, url)  # server cache and browser assets warm
+                    times = [_draw(driver, url) for _ in range(5)]
+                except TimeoutError:
+                    print(f"tab {tab:9s}: not drawn (no figure or table in time)")
+                    continue
+                payload = driver.execute_script(_PAYLOAD)
+                median = statistics.median(times)
+                print(f"tab {tab:9s}: drawn in {median:.2f} s (median of 5, warm) = {median / 1.0:.2f} of the "
+                      f"1.0 s budget; updates {payload / 1024:.0f} KiB")
             _draw(driver, link)
-            top = driver.execute_script(_FIRST_FIGURE)
-            print(f"{width}×{height}: first figure starts at y = {top:.0f} px = {top / height:.2f} screens")
-        driver = drivers[0]  # 1280×800
-        for tab in TABS:
-            url = base + urllib.parse.urlencode(FOUR + [("tab", tab)], quote_via=urllib.parse.quote)
-            try:
-                _draw(driver, url)  # server cache and browser assets warm
-                times = [_draw(driver, url) for _ in range(5)]
-            except TimeoutError:
-                print(f"tab {tab:9s}: not drawn (no such tab, or no figure)")
-                continue
-            payload = driver.execute_script(_PAYLOAD)
-            print(f"tab {tab:9s}: drawn in {statistics.median(times):.2f} s (median of 5, warm) "
-                  f"= {statistics.median(times) / 1.0:.2f} of the 1.0 s budget; updates {payload / 1024:.0f} KiB")
-        _draw(driver, link)
-        edits = [_edit(driver, f"-0.{80 + k}") for k in range(6)][1:]
-        edit = statistics.median(edits)
-        print(f"one edit (m2 w0) redraws Distances in {edit:.2f} s (median of 5) = {edit / 0.4:.2f} of the 0.4 s budget")
-    finally:
-        for driver in drivers:
-            driver.quit()
-        server.terminate()
-        server.wait(timeout=10)
+            edits = [_edit(driver, f"-0.{80 + k}") for k in range(6)][1:]
+            edit = statistics.median(edits)
+            print(f"one edit (m2 w0) redraws Distances in {edit:.2f} s (median of 5) = {edit / 0.4:.2f} of the "
+                  "0.4 s budget")
+        finally:
+            for driver in drivers:
+                driver.quit()
 
 
 if __name__ == "__main__":

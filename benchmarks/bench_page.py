@@ -5,38 +5,17 @@ means every Plotly figure (or the table) of the open panel is in the DOM with it
 drawn and the model cards are filled, measured from the navigation request.
 """
 
-import os
 import statistics
-import subprocess
-import sys
-import tempfile
 import time
 import urllib.parse
-import urllib.request
-from pathlib import Path
 
-from benchmarks._serving import free_port
+from benchmarks._serving import DevServer, chromium
 
-ROOT = Path(__file__).resolve().parent.parent
 TABS = ("budget", "distances", "time", "volume", "acoustic", "table")
 # Four invented candidates of a made-up survey team (the README's scenario).
 FOUR = [("m1.label", "Lantern baseline"), ("m2.label", "Candidate Ember"), ("m2.w0", "-0.88"),
         ("m2.wa", "-0.35"), ("m3.label", "Candidate Cinder"), ("m3.ok", "-0.015"),
         ("m4.label", "Candidate Ash"), ("m4.mnu", "0.15")]
-
-
-def _driver():
-    from selenium import webdriver
-    from selenium.webdriver.chrome.options import Options
-
-    options = Options()
-    options.binary_location = "/usr/bin/chromium"
-    for flag in ("--headless=new", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage",
-                 "--disable-background-networking", "--disable-component-update",
-                 "--disable-sync", "--no-first-run", "--window-size=1400,900",
-                 f"--user-data-dir={tempfile.mkdtemp()}"):
-        options.add_argument(flag)
-    return webdriver.Chrome(options=options)
 
 
 _RENDERED = """
@@ -64,40 +43,27 @@ def _load_time(driver, url, timeout=30.0):
 
 
 def run():
-    port = free_port()
-    env = {**os.environ, "FDESK_CACHE_DIR": tempfile.mkdtemp()}
-    server = subprocess.Popen([sys.executable, "-m", "server", "--port", str(port)], cwd=ROOT,
-                              env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
-    driver = None
-    try:
-        for _ in range(150):
-            try:
-                urllib.request.urlopen(f"http://127.0.0.1:{port}/healthz", timeout=1)
-                break
-            except OSError:
-                time.sleep(0.2)
-        driver = _driver()
-        base = f"http://127.0.0.1:{port}/?"
-        warmup = FOUR + [("m1.h0", "66"), ("tab", "distances")]
-        _load_time(driver, base + urllib.parse.urlencode(warmup))  # assets into the browser cache
-        cold, warm = {}, {}
-        for k, tab in enumerate(TABS):
-            # a fresh set of four models for every tab: nothing computed before
-            fresh = FOUR + [("m1.h0", f"{67.0 + 0.01 * k:g}"), ("tab", tab)]
-            url = base + urllib.parse.urlencode(fresh, quote_via=urllib.parse.quote)
-            cold[tab] = _load_time(driver, url)
-            warm[tab] = _load_time(driver, url)
-        for tab in TABS:
-            print(f"four-model link, panel {tab:9s}: {cold[tab]:.2f} s new models, "
-                  f"{warm[tab]:.2f} s cached")
-        worst = max(cold.values())
-        print(f"slowest panel {worst:.2f} s = {worst / 3.0:.2f} of the 3 s budget; "
-              f"median {statistics.median(cold.values()):.2f} s")
-    finally:
-        if driver is not None:
+    with DevServer() as server:
+        driver = chromium()
+        try:
+            base = server.base + "?"
+            warmup = FOUR + [("m1.h0", "66"), ("tab", "distances")]
+            _load_time(driver, base + urllib.parse.urlencode(warmup))  # assets into the browser cache
+            cold, warm = {}, {}
+            for k, tab in enumerate(TABS):
+                # a fresh set of four models for every tab: nothing computed before
+                fresh = FOUR + [("m1.h0", f"{67.0 + 0.01 * k:g}"), ("tab", tab)]
+                url = base + urllib.parse.urlencode(fresh, quote_via=urllib.parse.quote)
+                cold[tab] = _load_time(driver, url)
+                warm[tab] = _load_time(driver, url)
+        finally:
             driver.quit()
-        server.terminate()
-        server.wait(timeout=10)
+    for tab in TABS:
+        print(f"four-model link, panel {tab:9s}: {cold[tab]:.2f} s new models, "
+              f"{warm[tab]:.2f} s cached")
+    worst = max(cold.values())
+    print(f"slowest panel {worst:.2f} s = {worst / 3.0:.2f} of the 3 s budget; "
+          f"median {statistics.median(cold.values()):.2f} s")
 
 
 if __name__ == "__main__":
