@@ -150,19 +150,27 @@ def data_points(c: Comparison, kind: str, transform=None) -> list[Series]:
              "x": z, "y": value, "error": error, "text": [d.label[i] for i in rows]}]
 
 
+def _reference_rows(c: Comparison, kind: str, need: str):
+    """``(stored set, the reference model's score, drawn rows of `kind`)``, or None when the link
+    has no data, no reference, no score entry `need` for the reference, or no such rows drawn."""
+    stored, _ = measurements(c)
+    if stored is None or c.reference is None:
+        return None
+    ref = scores(c).get(c.reference.slot, {})
+    if need not in ref:
+        return None
+    rows = _drawn_rows(c, stored, kind)
+    return (stored, ref, rows) if rows.size else None
+
+
 def strip_points(c: Comparison, kind: str) -> list[Series]:
     """The measurements of one kind divided by the reference model's prediction at each point
     (error bars divided likewise), for the strip of ratios to the reference; limited to the drawn
     redshift range. Empty when the link has no such data or the reference cannot be scored."""
-    stored, _ = measurements(c)
-    if stored is None or c.reference is None:
+    found = _reference_rows(c, kind, "prediction")
+    if found is None:
         return []
-    ref = scores(c).get(c.reference.slot, {})
-    if "prediction" not in ref:
-        return []
-    rows = _drawn_rows(c, stored, kind)
-    if rows.size == 0:
-        return []
+    stored, ref, rows = found
     d = stored.measurements
     predicted = np.asarray(ref["prediction"], dtype=float)[rows]
     with np.errstate(all="ignore"):
@@ -174,15 +182,10 @@ def strip_points(c: Comparison, kind: str) -> list[Series]:
 
 def residual_points(c: Comparison, kind: str) -> list[Series]:
     """Δμ plot: the supernova moduli minus the reference model's prediction (its best offset)."""
-    stored, _ = measurements(c)
-    if stored is None or c.reference is None:
+    found = _reference_rows(c, kind, "residual")
+    if found is None:
         return []
-    ref = scores(c).get(c.reference.slot, {})
-    if "residual" not in ref:
-        return []
-    rows = _drawn_rows(c, stored, kind)
-    if rows.size == 0:
-        return []
+    stored, ref, rows = found
     d = stored.measurements
     return [{"name": [f"{_data_name(stored)} − {c.reference.name} (offset M = ", num(ref["offset"], 4, "mag"), ")"],
              "role": "data", "x": d.z[rows], "y": np.asarray(ref["residual"])[rows], "error": d.error[rows],
