@@ -129,7 +129,7 @@ def fit_report(report: FitReport) -> list:
     for line in report["summary"]:
         out.append(html.P(render(line), className="fd-fit-summary"))
     if report.get("correlation_rows"):
-        out.append(html.H4("Correlations (from the Jacobian at the best fit) [dimensionless]"))
+        out.append(html.H4("Correlations (from the Jacobian at the best fit)"))
         out.append(table(report["correlation_header"], report["correlation_rows"]))
     out.extend(html.Div(w, className="fd-error", role="alert") for w in report.get("warnings", []))
     return out

@@ -19,12 +19,18 @@ import weakref
 
 import numpy as np
 
-from layouts.palette import COMPONENT_COLOURS, DATA_COLOUR, GUIDE_COLOUR, slot_colour, slot_dash
+from layouts.palette import (COMPONENT_COLOURS, COMPONENT_DASHES, DATA_COLOUR, EPOCH_SYMBOLS, GUIDE_COLOUR,
+                             GUIDE_DASHES, slot_colour, slot_dash)
 from layouts.text import escape_for_figure, render
 
-__all__ = ["figure", "small_multiples", "typed_array", "uniform_step", "chi2_map_figure"]
+__all__ = ["figure", "small_multiples", "typed_array", "uniform_step", "chi2_map_figure", "FONT_SIZE",
+           "ANNOTATION_SIZE", "TITLE_SIZE"]
 
-FONT = {"family": "system-ui, -apple-system, 'Segoe UI', sans-serif", "size": 12}
+# Sizes that read on a meeting-room projector: 14 px text (ticks, axis titles, legend, hover),
+# 12 px annotations, 16 px figure titles.
+FONT_SIZE, ANNOTATION_SIZE, TITLE_SIZE = 14, 12, 16
+FONT = {"family": "system-ui, -apple-system, 'Segoe UI', sans-serif", "size": FONT_SIZE, "color": "#1b1b1b"}
+HOVER = {"font": {"size": FONT_SIZE}}
 STRIP_SHARE = 0.28
 
 
@@ -88,9 +94,9 @@ def _line(series: dict) -> dict:
     role, slot = series.get("role", "model"), series.get("slot", 1)
     if role == "component":
         key = series["component"]
-        return {"color": COMPONENT_COLOURS[key], "dash": "dash" if key == "critical" else "solid", "width": 2}
+        return {"color": COMPONENT_COLOURS[key], "dash": COMPONENT_DASHES.get(key, "solid"), "width": 2}
     if role == "guide":
-        return {"color": GUIDE_COLOUR, "dash": "dot", "width": 1}
+        return {"color": GUIDE_COLOUR, "dash": GUIDE_DASHES.get(series.get("component"), "dot"), "width": 1.5}
     return {"color": slot_colour(slot), "dash": slot_dash(slot), "width": 2}
 
 
@@ -168,9 +174,9 @@ def _trace(series: dict, spec: dict, yaxis: str, xaxis: str = "x", unit: str | N
 
 
 def _axis(title: str, log: bool, **extra) -> dict:
-    return {"title": {"text": escape_for_figure(title)}, "type": "log" if log else "linear",
+    return {"title": {"text": escape_for_figure(title), "standoff": 6}, "type": "log" if log else "linear",
             "showline": True, "mirror": True, "ticks": "outside", "exponentformat": "power",
-            "zeroline": False, **extra}
+            "zeroline": False, "automargin": True, **extra}
 
 
 def _annotation_x(x: float, log: bool) -> float:
@@ -189,6 +195,68 @@ def _strip_points(strip: dict) -> list[dict]:
     return traces
 
 
+def _title(text) -> dict:
+    return {"text": escape_for_figure(render(text or "")), "x": 0.01, "xanchor": "left",
+            "font": {"size": TITLE_SIZE}}
+
+
+def _epoch_markers(markers: list[dict], xaxis: str, overlay: str, kinds: dict, grey: bool = False,
+                   shown: set | None = None) -> tuple[list[dict], list[dict]]:
+    """Epoch markers (equality, acceleration, today…) as a dotted vertical line plus one symbol
+    near the top of the plot, never as text on the plot: labels of nearby epochs would pile on
+    each other. Each kind of epoch has its own symbol and one legend entry (`kinds`: text ->
+    symbol, filled in order of appearance; `shown`: kinds already in the legend); the hover
+    names the epoch, its position and the model. Models' symbols are stacked a little apart
+    so four "today"s at nearly the same x stay four."""
+    shown = set() if shown is None else shown
+    traces, shapes = [], []
+    for marker in markers:
+        kind = marker["text"]
+        symbol = kinds.setdefault(kind, EPOCH_SYMBOLS[len(kinds) % len(EPOCH_SYMBOLS)])
+        slot = marker.get("slot")
+        colour = "#444444" if grey or slot is None else slot_colour(slot)
+        shapes.append({"type": "line", "xref": xaxis, "yref": "paper", "x0": marker["x"], "x1": marker["x"],
+                       "y0": 0, "y1": 1, "layer": "below", "line": {"color": colour, "width": 1, "dash": "dot"}})
+        height = 0.95 - 0.06 * ((slot or 1) - 1)
+        name = escape_for_figure(kind)
+        traces.append({
+            "type": "scatter", "mode": "markers", "x": [marker["x"]], "y": [height], "xaxis": xaxis,
+            "yaxis": overlay, "name": name, "legendgroup": f"epoch-{kind}", "showlegend": kind not in shown,
+            "cliponaxis": False, "marker": {"symbol": symbol, "size": 11, "color": colour,
+                                            "line": {"color": "white", "width": 1}},
+            "meta": escape_for_figure(marker.get("model", "")),
+            "hovertemplate": f"{name}<br>{escape_for_figure(marker.get('x_hover', 'x'))} = %{{x:.5g}}"
+                             + ("<extra>%{meta}</extra>" if marker.get("model") else "<extra></extra>"),
+        })
+        shown.add(kind)
+    return traces, shapes
+
+
+def _overlay_axis(over: str, domain: list[float]) -> dict:
+    """An invisible y axis from 0 to 1 over the plot `over`, where the epoch symbols sit."""
+    return {"overlaying": over, "range": [0, 1], "visible": False, "fixedrange": True, "domain": domain}
+
+
+def _strip_reference(strip: dict) -> dict:
+    """The strip's own label: which model every curve on it is compared with."""
+    return {"text": escape_for_figure(render(strip["reference"])), "xref": "paper", "yref": "paper",
+            "x": 0.0, "y": STRIP_SHARE, "xanchor": "left", "yanchor": "top", "showarrow": False,
+            "bgcolor": "rgba(255,255,255,0.85)", "font": {"size": ANNOTATION_SIZE}}
+
+
+def _base_layout(spec: dict, height: int) -> dict:
+    return {
+        "title": _title(spec.get("title")),
+        "font": FONT,
+        "hoverlabel": HOVER,
+        "height": height,
+        "margin": {"l": 80, "r": 20, "t": 48, "b": 50},
+        "hovermode": "closest",
+        "plot_bgcolor": "white",
+        "legend": {"orientation": "h", "x": 0, "y": -0.2, "yanchor": "top", "font": {"size": FONT_SIZE}},
+    }
+
+
 def figure(spec: dict) -> dict:
     """One plot over redshift (or another x), with an optional strip against the reference."""
     strip = spec.get("strip")
@@ -196,38 +264,43 @@ def figure(spec: dict) -> dict:
     points = spec.get("points", [])
     crowded = _crowded(points)
     data += [_points_trace(p, spec, "y", crowded=crowded) for p in points]
-    layout = {
-        "title": {"text": escape_for_figure(render(spec.get("title", ""))), "x": 0.01, "font": {"size": 14}},
-        "font": FONT,
-        "height": 420 if strip else 340,
-        "margin": {"l": 70, "r": 20, "t": 40, "b": 50},
-        "hovermode": "closest",
-        "legend": {"orientation": "h", "y": -0.28 if not strip else -0.2, "x": 0},
-        "plot_bgcolor": "white",
-        "xaxis": _axis(spec.get("x_title", ""), spec.get("x_log", False), anchor="y2" if strip else "y"),
-        "yaxis": _axis(spec.get("y_title", ""), spec.get("y_log", False),
-                       domain=[STRIP_SHARE + 0.06, 1.0] if strip else [0.0, 1.0]),
-    }
+    layout = _base_layout(spec, 460 if strip else 380)
+    main_domain = [STRIP_SHARE + 0.08, 1.0] if strip else [0.0, 1.0]
+    layout["xaxis"] = _axis(spec.get("x_title", ""), spec.get("x_log", False), anchor="y2" if strip else "y")
+    layout["yaxis"] = _axis(spec.get("y_title", ""), spec.get("y_log", False), domain=main_domain)
+    annotations = []
     if strip:
         layout["yaxis2"] = _axis(strip["y_title"], False, domain=[0.0, STRIP_SHARE], anchor="x")
-        layout["xaxis"]["title"] = {"text": escape_for_figure(spec.get("x_title", ""))}
         crowded = _crowded(strip["series"])
         for s in strip["series"]:
             trace = _trace(s, spec, "y2", unit=strip.get("unit", ""), crowded=crowded)
             trace["showlegend"] = False
             data.append(trace)
         data += _strip_points(strip)
-    shapes, annotations = [], []
-    for marker in spec.get("markers", []):
-        shapes.append({"type": "line", "xref": "x", "yref": "paper", "x0": marker["x"], "x1": marker["x"],
-                       "y0": 0, "y1": 1, "line": {"color": slot_colour(marker.get("slot", 1)), "width": 1,
-                                                   "dash": "dot"}})
-        annotations.append({"x": _annotation_x(marker["x"], spec.get("x_log")), "xref": "x", "y": 1.0, "yref": "paper", "showarrow": False,
-                            "text": escape_for_figure(marker["text"]), "textangle": -90, "xanchor": "right",
-                            "yanchor": "top", "font": {"size": 10, "color": slot_colour(marker.get("slot", 1))}})
+        if strip.get("reference"):
+            annotations.append(_strip_reference(strip))
+    markers = [{**m, "x_hover": spec.get("x_hover", "x")} for m in spec.get("markers", [])]
+    shapes = []
+    if markers:
+        traces, shapes = _epoch_markers(markers, "x", "y9", {})
+        data += traces
+        layout["yaxis9"] = _overlay_axis("y", main_domain)
     layout["shapes"] = shapes
     layout["annotations"] = annotations
     return {"data": data, "layout": layout}
+
+
+def _guide_label(trace: dict, series: dict, x_log: bool, y_log: bool, xaxis: str, yaxis: str) -> dict | None:
+    """A slope guide's name written at its left end, so the three guides are told apart on the
+    plot itself and not only by dash."""
+    x, y = np.asarray(series["x"], dtype=float), np.asarray(series["y"], dtype=float)
+    ok = np.isfinite(x) & np.isfinite(y) & ((y > 0) if y_log else True)
+    if not ok.any():
+        return None
+    i = int(np.argmax(ok))
+    return {"text": trace["name"], "x": _annotation_x(float(x[i]), x_log), "y": _annotation_x(float(y[i]), y_log),
+            "xref": xaxis, "yref": yaxis, "xanchor": "left", "yanchor": "bottom", "showarrow": False,
+            "font": {"size": ANNOTATION_SIZE, "color": GUIDE_COLOUR}}
 
 
 def small_multiples(spec: dict) -> dict:
@@ -235,25 +308,19 @@ def small_multiples(spec: dict) -> dict:
 
     ``spec["panels"]`` = ``[{"title", "slot", "series": [...], "markers"?}]``; the series are
     components (colour = component) and guides; the legend lists each once (from the first plot).
+    Plot titles are black: colour on these plots means a component, never a model.
     """
     panels = spec["panels"]
     n = max(len(panels), 1)
-    gap = 0.04
+    gap = 0.03
     width = (1.0 - gap * (n - 1)) / n
-    data, annotations = [], []
-    layout = {
-        "font": FONT,
-        "height": 360,
-        "margin": {"l": 70, "r": 20, "t": 50, "b": 80},
-        "plot_bgcolor": "white",
-        "hovermode": "closest",
-        "legend": {"orientation": "h", "y": -0.32, "x": 0},
-        "title": {"text": escape_for_figure(spec.get("title", "")), "x": 0.01, "font": {"size": 14}},
-    }
+    data, annotations, shapes, kinds, shown = [], [], [], {}, set()
+    layout = _base_layout(spec, 420)
+    layout["margin"] = {"l": 80, "r": 20, "t": 70, "b": 50}
     for i, panel in enumerate(panels):
         suffix = "" if i == 0 else str(i + 1)
         x0 = i * (width + gap)
-        layout[f"xaxis{suffix}"] = _axis(spec.get("x_title", ""), spec.get("x_log", False),
+        layout[f"xaxis{suffix}"] = _axis(spec.get("x_title", "") if n < 3 or i == 0 else "", spec.get("x_log", False),
                                          domain=[x0, x0 + width], anchor=f"y{suffix}",
                                          **({"matches": "x"} if i else {}))
         layout[f"yaxis{suffix}"] = _axis(spec.get("y_title", "") if i == 0 else "", spec.get("y_log", False),
@@ -261,22 +328,27 @@ def small_multiples(spec: dict) -> dict:
                                                                   if i else {}))
         annotations.append({"text": escape_for_figure(panel["title"]), "x": x0 + width / 2, "xref": "paper",
                             "y": 1.0, "yref": "paper", "yanchor": "bottom", "showarrow": False,
-                            "font": {"size": 12, "color": slot_colour(panel.get("slot", 1))}})
+                            "font": {"size": FONT_SIZE}})
         for s in panel["series"]:
             trace = _trace(s, spec, f"y{suffix}", xaxis=f"x{suffix}")
             trace["showlegend"] = i == 0
             trace["meta"] = escape_for_figure(panel["title"])  # the model's label, as typed
             trace["hovertemplate"] = trace["hovertemplate"].replace("<extra>", "<extra>%{meta}: ")
             data.append(trace)
-        for marker in panel.get("markers", []):
-            annotations.append({"x": _annotation_x(marker["x"], spec.get("x_log")), "y": 1.0,
-                                "xref": f"x{suffix}", "yref": "paper", "textangle": -90, "yanchor": "top",
-                                "text": escape_for_figure(marker["text"]), "showarrow": False,
-                                "xanchor": "right", "font": {"size": 9}})
-            layout.setdefault("shapes", []).append({
-                "type": "line", "xref": f"x{suffix}", "yref": "paper", "x0": marker["x"], "x1": marker["x"],
-                "y0": 0, "y1": 1, "line": {"color": "#888888", "width": 1, "dash": "dot"}})
+            if i == 0 and s.get("role") == "guide":
+                label = _guide_label(trace, s, spec.get("x_log", False), spec.get("y_log", False),
+                                     f"x{suffix}", f"y{suffix}")
+                if label:
+                    annotations.append(label)
+        if panel.get("markers"):
+            overlay = str(10 + i)
+            markers = [{**m, "x_hover": spec.get("x_hover", "x"), "model": panel["title"]} for m in panel["markers"]]
+            traces, lines = _epoch_markers(markers, f"x{suffix}", f"y{overlay}", kinds, grey=True, shown=shown)
+            data += traces
+            shapes += lines
+            layout[f"yaxis{overlay}"] = _overlay_axis(f"y{suffix}", [0.0, 1.0])
     layout["annotations"] = annotations
+    layout["shapes"] = shapes
     return {"data": data, "layout": layout}
 
 
@@ -294,7 +366,7 @@ def chi2_map_figure(spec: dict) -> dict:
     x = np.asarray(spec["x"], dtype=float).tolist()
     y = np.asarray(spec["y"], dtype=float).tolist()
     data = [{"type": "heatmap", "x": x, "y": y, "z": grid, "zmin": 0.0, "zmax": cap, "colorscale": "Greys",
-             "reversescale": True, "colorbar": {"title": {"text": "Δχ² [dimensionless]"}},
+             "reversescale": True, "colorbar": {"title": {"text": "Δχ²"}},
              "hovertemplate": "%{x:.5g}, %{y:.5g}: Δχ² = %{z:.4g}<extra></extra>", "name": "Δχ²"}]
     dashes = ("solid", "dash", "dot")
     raw = [[None if not np.isfinite(v) else round(float(v), 4) for v in row] for row in z]
@@ -309,7 +381,7 @@ def chi2_map_figure(spec: dict) -> dict:
                      "marker": {"symbol": "x", "size": 10, "color": "#000000"},
                      "name": escape_for_figure(spec.get("best_name", "smallest χ² on the grid")),
                      "hovertemplate": "%{x:.5g}, %{y:.5g}<extra>smallest χ² on the grid</extra>"})
-    layout = {"title": {"text": escape_for_figure(spec.get("title", "")), "x": 0.01, "font": {"size": 14}},
+    layout = {"title": _title(spec.get("title", "")), "hoverlabel": HOVER,
               "font": FONT, "height": 480, "margin": {"l": 70, "r": 20, "t": 40, "b": 50},
               "plot_bgcolor": "white", "legend": {"orientation": "h", "y": -0.18, "x": 0},
               "xaxis": _axis(spec.get("x_title", ""), False), "yaxis": _axis(spec.get("y_title", ""), False)}

@@ -1,10 +1,23 @@
 """Every component id on the page comes from here (pattern-matching ids for per-slot parts)."""
 
+import json
+
+
+def dom_id(value) -> str:
+    """The id a component has in the page's DOM: a dict id is written as JSON with sorted keys
+    and no spaces (how Dash stringifies it), which is what a label's ``for=`` must name."""
+    if isinstance(value, dict):
+        return json.dumps(value, sort_keys=True, separators=(",", ":"))
+    return str(value)
+
 
 class _Ids:
     url = "fd-url"
     cards = "fd-cards"
+    shells = "fd-shells"
     add = "fd-add"
+    add_reason = "fd-add-reason"
+    copy_status = "fd-copy-status"
     tab = "fd-tab"
     zmax = "fd-zmax"
     panel = "fd-panel"
@@ -56,8 +69,21 @@ class _Ids:
         return {"type": "fd-view", "key": key}
 
     @staticmethod
-    def card(slot: int) -> dict:
-        return {"type": "fd-card", "slot": slot}
+    def slot(slot: int) -> dict:
+        """The static shell of a slot (chip and card popover)."""
+        return {"type": "fd-slot", "slot": slot}
+
+    @staticmethod
+    def chip(slot: int) -> dict:
+        return {"type": "fd-chip", "slot": slot}
+
+    @staticmethod
+    def card_body(slot: int) -> dict:
+        return {"type": "fd-card-body", "slot": slot}
+
+    @staticmethod
+    def tab_button(key: str) -> dict:
+        return {"type": "fd-tab-button", "key": key}
 
     @staticmethod
     def status(slot: int) -> dict:

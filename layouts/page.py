@@ -5,8 +5,9 @@ from __future__ import annotations
 from dash import dcc, html
 
 from layouts.data_panel import data_tools
+from layouts.cards import slot_shell
 from layouts.figures import figure, small_multiples
-from layouts.ids import ids
+from layouts.ids import dom_id, ids
 from layouts.specs import PageOptions, PanelSpec
 from layouts.tables import table
 from layouts.text import render
@@ -16,54 +17,94 @@ __all__ = ["page", "panel_body", "notice"]
 TONE_CLASSES = {"note": "fd-note", "caution": "fd-caution", "error": "fd-error"}
 
 
+def _tabs(tabs: list[tuple[str, str]], value: str) -> html.Div:
+    """Real tabs (WAI-ARIA "Tabs" pattern): buttons with role=tab in a tablist, one in the tab
+    order at a time; layouts/assets/page.js moves between them with the arrow keys."""
+    return html.Div(className="fd-tabs", role="tablist", **{"aria-label": "panels"}, children=[
+        html.Button(label, id=ids.tab_button(key), type="button", role="tab", n_clicks=0,
+                    className="fd-tab fd-tab-selected" if key == value else "fd-tab",
+                    tabIndex=0 if key == value else -1,
+                    **{"aria-selected": "true" if key == value else "false", "aria-controls": ids.panel})
+        for key, label in tabs])
+
+
 def page(options: PageOptions) -> html.Div:
-    """`options`: ``{"tabs": [(value, label)], "zmax_range": str, "data_tools": {...}}`` (see
-    `layouts.data_panel.data_tools`); cards and panels are filled by callbacks from the link."""
+    """`options`: ``{"tabs": [(value, label)], "zmax_range": str, "max_models": int, "view_controls": [...],
+    "data_tools": {...}}`` (see `layouts.data_panel.data_tools`); chips, cards and panels are filled
+    by callbacks from the link.
+
+    Top to bottom: a header line (name, the link with its copy button), one row of model
+    chips, one line of view settings, the tabs, then the open panel: at 1280 × 800 the first
+    figure starts on the first screen."""
+    first = options["tabs"][0][0]
     return html.Div(className="fd-page", children=[
         dcc.Location(id=ids.url, refresh=False),
+        dcc.Store(id=ids.tab, data=first),
+        dcc.Store(id=ids.shells, data={"filled": [], "open": None}),
         html.Header(className="fd-header", children=[
             html.Div([html.H1("Friedmann Desk"),
                       html.Span("compare up to four expansion histories", className="fd-tagline")]),
             html.Div(className="fd-header-actions", children=[
-                html.Span("copy link", className="fd-copy-label"),
-                dcc.Clipboard(id=ids.copy, content="", title="copy the canonical link to this view",
-                              className="fd-copy"),
-                html.Button("parameter sets (JSON)", id=ids.download_params, n_clicks=0, className="fd-button"),
+                html.Label("link to this view", htmlFor=ids.link_text, className="fd-sr-only"),
+                dcc.Input(id=ids.link_text, type="text", value="", readOnly=True, className="fd-link-text"),
+                html.Button("copy link", id=ids.copy, n_clicks=0, type="button", className="fd-button",
+                            title="copy the link to this view (every model and setting is in it)"),
+                html.Span(id=ids.copy_status, className="fd-copy-status", role="status"),
+                html.Button("parameter sets (JSON)", id=ids.download_params, n_clicks=0, className="fd-button",
+                            title="every model's parameters as a JSON file"),
                 dcc.Download(id=ids.download_params_file),
             ]),
         ]),
-        html.Div(id=ids.notice_box, className="fd-notice", style={"display": "none"}, children=[
+        html.Div(id=ids.notice_box, className="fd-notice", style={"display": "none"}, role="status", children=[
             html.Div(id=ids.notice),
             html.Button("dismiss", id=ids.notice_close, n_clicks=0, className="fd-button"),
         ]),
-        html.Div(className="fd-cards-row", children=[
-            html.Div(id=ids.cards, className="fd-cards"),
-            html.Button("+ add model", id=ids.add, n_clicks=0, className="fd-button fd-add"),
+        html.Div(className="fd-models", id=ids.cards, children=[
+            *(slot_shell(slot) for slot in range(1, options["max_models"] + 1)),
+            html.Div(className="fd-add-box", children=[
+                html.Button("+ add model", id=ids.add, n_clicks=0, className="fd-button fd-add", type="button"),
+                html.Small(id=ids.add_reason, className="fd-reason", role="status"),
+            ]),
         ]),
         html.Div(className="fd-viewbar", children=[
-            html.Label("reference model", htmlFor=ids.reference),
-            dcc.RadioItems(id=ids.reference, options=[], value=None, inline=True, className="fd-ref"),
-            html.Label("largest redshift z_max", htmlFor="fd-zmax"),
-            dcc.Input(id=ids.zmax, type="text", value="3", debounce=True, className="fd-input fd-short"),
-            html.Small(options["zmax_range"], className="fd-range"),
+            html.Span("reference", className="fd-viewbar-label", id="fd-reference-label"),
+            html.Div(dcc.RadioItems(id=ids.reference, options=[], value=None, inline=True, className="fd-ref"),
+                     role="radiogroup", **{"aria-labelledby": "fd-reference-label"}),
+            html.Label(["largest redshift ", html.Span("z_max")], htmlFor=ids.zmax, className="fd-viewbar-label",
+                       title=options["zmax_range"]),
+            dcc.Input(id=ids.zmax, type="text", value="3", debounce=True, className="fd-input fd-short",
+                      placeholder="3"),
+            *(_view_setting(c) for c in options.get("view_controls", [])),
         ]),
-        dcc.Tabs(id=ids.tab, value=options["tabs"][0][0], className="fd-tabs",
-                 children=[dcc.Tab(label=label, value=value) for value, label in options["tabs"]]),
-        data_tools(options["data_tools"]),
+        _tabs(options["tabs"], first),
         html.Div(className="fd-panel-actions", children=[
             html.Button("this panel's numbers (CSV)", id=ids.download_panel, n_clicks=0, className="fd-button"),
             dcc.Download(id=ids.download_panel_file),
         ]),
-        dcc.Loading(html.Div(id=ids.panel, className="fd-panel"), type="dot", delay_show=400),
+        dcc.Loading(html.Div(id=ids.panel, className="fd-panel", role="tabpanel"), type="dot", delay_show=400),
+        data_tools(options["data_tools"]),
+    ])
+
+
+def _view_setting(control: dict) -> html.Span:
+    """A view key the whole page follows (distance unit, axis scale): a small labelled list."""
+    label_id = f"fd-view-label-{control['key']}"
+    return html.Span(className="fd-view-setting", children=[
+        html.Span(control["label"], className="fd-viewbar-label", id=label_id),
+        html.Div(dcc.Dropdown(id=ids.view(control["key"]), options=control["options"], value=control["value"],
+                              clearable=False, searchable=False, className="fd-view-dropdown"),
+                 role="group", **{"aria-labelledby": label_id}),
     ])
 
 
 def _control(control: dict):
     key = control["key"]
-    label = html.Label(control["label"], className="fd-control-label")
+    label = html.Label(control["label"], className="fd-control-label", htmlFor=dom_id(ids.view(key)),
+                       id=f"fd-control-label-{key}")
     if control["kind"] == "dropdown":
-        widget = dcc.Dropdown(id=ids.view(key), options=control["options"], value=control["value"],
-                              clearable=False, searchable=False, className="fd-control-dropdown")
+        widget = html.Div(dcc.Dropdown(id=ids.view(key), options=control["options"], value=control["value"],
+                                       clearable=False, searchable=False, className="fd-control-dropdown"),
+                          role="group", **{"aria-labelledby": f"fd-control-label-{key}"})
     else:
         widget = dcc.Input(id=ids.view(key), type="text", value=control["value"], debounce=True,
                            className="fd-input")
@@ -73,6 +114,34 @@ def _control(control: dict):
     if control.get("error"):
         parts.append(html.Div(control["error"], className="fd-error", role="alert"))
     return html.Div(parts, className="fd-control")
+
+
+def graph_config(name: str) -> dict:
+    """The Plotly toolbar of every figure: the camera saves an SVG named after the figure, and
+    nothing can leave the machine (no cloud or editor buttons, no server URL: measurements
+    may be unpublished)."""
+    return {"displaylogo": False, "showSendToCloud": False, "showEditInChartStudio": False, "showLink": False,
+            "plotlyServerURL": "", "modeBarButtonsToRemove": ["sendDataToCloud", "editInChartStudio"],
+            "toImageButtonOptions": {"format": "svg", "filename": name, "scale": 1}}
+
+
+# The export buttons under each figure (layouts/assets/exports.js draws the files in the browser):
+# data-fd-export names the kind of file.
+EXPORTS = (("svg", "SVG", "vector file of this figure as shown (for papers)"),
+           ("png2", "PNG 2×", "bitmap at twice the size on screen"),
+           ("png3", "PNG 3×", "bitmap at three times the size on screen"),
+           ("slides", "figure for slides", "16:9 bitmap, 1600 × 900 at 2× (3200 × 1800 pixels), large text"))
+
+
+def _graph(block: dict) -> html.Figure:
+    name = (block.get("id") or "figure").removeprefix("fd-fig-")
+    drawn = figure(block["spec"]) if block["kind"] == "figure" else small_multiples(block["spec"])
+    return html.Figure(className="fd-figure", **{"data-fd-name": f"friedmann-desk-{name}"}, children=[
+        dcc.Graph(figure=drawn, id=block.get("id"), className="fd-graph", config=graph_config(f"friedmann-desk-{name}")),
+        html.Div(className="fd-exports", children=[html.Span("save:", className="fd-exports-label")] + [
+            html.Button(label, type="button", title=title, className="fd-button fd-small",
+                        **{"data-fd-export": key}) for key, label, title in EXPORTS]),
+    ])
 
 
 def panel_body(body: PanelSpec) -> list:
@@ -85,12 +154,8 @@ def panel_body(body: PanelSpec) -> list:
         out.append(html.Div([_control(c) for c in body["controls"]], className="fd-controls"))
     for block in body["blocks"]:
         kind = block["kind"]
-        if kind == "figure":
-            out.append(dcc.Graph(figure=figure(block["spec"]), id=block.get("id"), className="fd-graph",
-                                 config={"displaylogo": False, "toImageButtonOptions": {"format": "png"}}))
-        elif kind == "multiples":
-            out.append(dcc.Graph(figure=small_multiples(block["spec"]), id=block.get("id"), className="fd-graph",
-                                 config={"displaylogo": False}))
+        if kind in ("figure", "multiples"):
+            out.append(_graph(block))
         elif kind == "table":
             if block.get("title"):
                 out.append(html.H3(render(block["title"])))

@@ -18,16 +18,34 @@ OKABE_ITO = {
 SLOT_COLOURS = (OKABE_ITO["blue"], OKABE_ITO["vermillion"], OKABE_ITO["bluish green"], OKABE_ITO["reddish purple"])
 SLOT_DASHES = ("solid", "dash", "dot", "dashdot")
 
-# Energy components in the budget panel (one small plot per model, so colour = component).
+# Paul Tol's "muted" qualitative scheme, colour-blind safe (P. Tol 2021, "Colour Schemes",
+# SRON/EPS/TN/09-002, https://personal.sron.nl/~pault/data/colourschemes.pdf).
+TOL_MUTED = {
+    "indigo": "#332288",
+    "cyan": "#88CCEE",
+    "teal": "#44AA99",
+    "green": "#117733",
+    "olive": "#999933",
+    "sand": "#DDCC77",
+    "rose": "#CC6677",
+    "wine": "#882255",
+    "purple": "#AA4499",
+}
+
+# Energy components in the budget panel (one small plot per model, so colour = component). None
+# of these is a model's colour (SLOT_COLOURS), so a colour never means both a model and a
+# component; components also differ by dash where two colours are close in lightness.
+# tests/layouts checks the CIE76 colour distances between all of them.
 COMPONENT_COLOURS = {
     "photons": OKABE_ITO["orange"],
-    "neutrinos": OKABE_ITO["sky blue"],
-    "baryons": OKABE_ITO["bluish green"],
+    "neutrinos": TOL_MUTED["cyan"],
+    "baryons": TOL_MUTED["olive"],
     "cold_dark_matter": OKABE_ITO["black"],
-    "dark_energy": OKABE_ITO["reddish purple"],
-    "curvature": OKABE_ITO["vermillion"],
-    "critical": OKABE_ITO["blue"],
+    "dark_energy": TOL_MUTED["indigo"],
+    "curvature": TOL_MUTED["wine"],
+    "critical": "#666666",
 }
+COMPONENT_DASHES = {"curvature": "dashdot", "critical": "dash"}  # the rest solid
 
 
 def slot_colour(slot: int) -> str:
@@ -37,6 +55,17 @@ def slot_colour(slot: int) -> str:
 def slot_dash(slot: int) -> str:
     return SLOT_DASHES[(slot - 1) % len(SLOT_DASHES)]
 
-# Measurements (whichever model they are compared with) and the slope guides of the density plot.
+# Measurements (whichever model they are compared with) and the slope guides of the density plot
+# (told apart by dash and by a label at their start).
 DATA_COLOUR = "#222222"
-GUIDE_COLOUR = "#999999"
+GUIDE_COLOUR = "#767676"  # the lightest grey with 4.5:1 contrast on white (WCAG 2 AA)
+GUIDE_DASHES = {"photons": "dot", "cold_dark_matter": "dash", "dark_energy": "longdashdot"}  # by the component it follows
+
+# One marker symbol per kind of epoch (equality, acceleration, today…), in order of appearance.
+EPOCH_SYMBOLS = ("triangle-down", "diamond", "square", "star", "circle", "x", "cross", "hexagon")
+# Residuals: one marker shape per model slot.
+SLOT_SYMBOLS = ("circle", "square", "diamond", "triangle-up")
+
+
+def slot_symbol(slot: int) -> str:
+    return SLOT_SYMBOLS[(slot - 1) % len(SLOT_SYMBOLS)]

@@ -13,7 +13,7 @@ from typing import Any, Literal, NotRequired, TypedDict, Union
 __all__ = [
     "Role", "Tone", "Number", "Text", "Cell", "Series", "Strip", "Marker", "FigureSpec", "SmallPlot",
     "MultiplesSpec", "FigureBlock", "MultiplesBlock", "TableSection", "TableBlock", "TextBlock", "Block",
-    "Control", "PanelSpec", "CardField", "Card", "CardStatus", "FitParameter", "DataToolOptions",
+    "Control", "PanelSpec", "CardField", "Card", "Chip", "CardStatus", "FitParameter", "DataToolOptions",
     "PageOptions", "FitReport", "MapSpec", "MapResult",
 ]
 
@@ -62,14 +62,16 @@ class Strip(TypedDict):
     series: list[Series]
     unit: str
     points: NotRequired[list[Series]]  # measurements divided by the reference's prediction (role data)
+    reference: NotRequired[str]  # which model the strip compares with ("ratio to m1 Baseline")
 
 
 class Marker(TypedDict):
     """A vertical line with a label at `x` (an epoch, "today")."""
 
     x: float
-    text: str
+    text: str  # the kind of epoch ("today"): markers of one kind share a symbol and a legend entry
     slot: NotRequired[int]
+    model: NotRequired[str]  # the model's label, for the hover
 
 
 class FigureSpec(TypedDict):
@@ -182,6 +184,19 @@ class Card(TypedDict):
     presets: list[dict]
     can_remove: bool
     can_duplicate: bool
+    remove_reason: NotRequired[str]  # why "remove" is disabled (shown beside it)
+    duplicate_reason: NotRequired[str]
+
+
+class Chip(TypedDict):
+    """A model's one-line summary: its label, the parameters that differ from the defaults
+    (``"w₀ = −0.9, w_a = −0.3"``), whether it is the reference, and the first problem if any."""
+
+    slot: int
+    label: str
+    changes: str
+    reference: bool
+    problem: NotRequired[str]
 
 
 class CardStatus(TypedDict, total=False):
@@ -216,6 +231,8 @@ class DataToolOptions(TypedDict):
 class PageOptions(TypedDict):
     tabs: list[tuple[str, str]]
     zmax_range: str
+    max_models: int
+    view_controls: list[Control]  # view keys the whole page follows (set in the view bar)
     data_tools: DataToolOptions
 
 

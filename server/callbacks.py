@@ -13,9 +13,9 @@ import dataclasses
 import logging
 import urllib.parse
 
-from dash import ALL, MATCH, Input, Output, State, ctx, dcc, no_update
+from dash import ALL, MATCH, ClientsideFunction, Input, Output, State, ctx, dcc, no_update
 
-from layouts.cards import card_status, model_card
+from layouts.cards import card_status, chip, model_card
 from layouts.data_panel import fit_report, map_view, messages
 from layouts.ids import ids
 from layouts.page import notice, panel_body
@@ -23,7 +23,7 @@ import model
 from server import codec, data_store, state as states
 from server.cache import BudgetExceeded
 from server.views import data_tools
-from server.views.cards import card_status as card_status_spec, cards
+from server.views.cards import card_status as card_status_spec, cards, chips
 from server.views.comparison import compare
 from server.views.downloads import panel_csv, parameter_sets
 from server.views.page import page_options, panel  # page_options: read by the app factory
@@ -53,8 +53,23 @@ def _fit_bounds(items: list) -> dict:
     return {(item["id"]["key"], item["id"]["end"]): item.get("value") for item in items}
 
 
-def _cards(state: codec.LinkState) -> list:
-    return [model_card(card) for card in cards(state)]
+def _card_specs(state: codec.LinkState) -> dict:
+    return {card["slot"]: card for card in cards(state)}
+
+
+def _card_body(card) -> list:
+    return [model_card(card)] if card is not None else []
+
+
+def _card_bodies(state: codec.LinkState, slots: list[int]) -> list:
+    specs = _card_specs(state)
+    return [_card_body(specs.get(k)) for k in slots]
+
+
+def _shells(state: codec.LinkState, opened: int | None = None) -> dict:
+    """What the slot shells show (read by ``fd.shells`` in layouts/assets/page.js): the filled
+    slots, and the one to open (a model just added, copied or given a preset)."""
+    return {"filled": list(state.slots()), "open": opened}
 
 
 def _reference_options(state: codec.LinkState) -> list[dict]:
@@ -66,33 +81,40 @@ def register(app) -> None:
 
     @app.callback(
         Output(ids.url, "search"),
-        Output(ids.cards, "children"),
-        Output(ids.tab, "value"),
+        Output(ids.card_body(ALL), "children"),
+        Output(ids.shells, "data"),
+        Output(ids.tab, "data"),
         Output(ids.reference, "value"),
         Output(ids.reference, "options"),
         Output(ids.zmax, "value"),
         Input(ids.url, "search"),
         Input(ids.param(ALL, ALL), "value"),
         Input(ids.view(ALL), "value"),
-        Input(ids.tab, "value"),
+        Input(ids.tab, "data"),
         Input(ids.reference, "value"),
         Input(ids.zmax, "value"),
         Input(ids.add, "n_clicks"),
         Input(ids.remove(ALL), "n_clicks"),
         Input(ids.duplicate(ALL), "n_clicks"),
         Input(ids.preset(ALL), "value"),
+        State(ids.card_body(ALL), "id"),
     )
-    def sync(search, _params, _views, tab, reference, zmax, *_buttons):
+    def sync(search, _params, _views, tab, reference, zmax, *_rest):
         current = codec.decode(search or "")
         trigger = ctx.triggered_id
-        nothing = (no_update,) * 6
+        slots = [item["slot"] for item in _rest[-1]]
+        nothing = (no_update, [no_update] * len(slots)) + (no_update,) * 5
 
         def from_link(state):
-            return (no_update, _cards(state), state.view.tab, codec.reference_slot(state),
-                    _reference_options(state), state.view.value_text("zmax"))
+            return (no_update, _card_bodies(state, slots), _shells(state), state.view.tab,
+                    codec.reference_slot(state), _reference_options(state), state.view.value_text("zmax"))
 
-        def write(state):
-            return ("?" + codec.encode(state),) + from_link(state)[1:]
+        def write(old, new, opened=None):
+            # only the cards whose content changed are sent again: text typed in another card stays
+            before, after = _card_specs(old), _card_specs(new)
+            bodies = [no_update if before.get(k) == after.get(k) else _card_body(after.get(k)) for k in slots]
+            return ("?" + codec.encode(new), bodies, _shells(new, opened), no_update,
+                    codec.reference_slot(new), _reference_options(new), no_update)
 
         if trigger is None or trigger == ids.url:
             return from_link(current)
@@ -101,25 +123,83 @@ def register(app) -> None:
             if not value:
                 return nothing
             action = trigger["type"].removeprefix("fd-")
-            return write(states.apply_action(current, action, trigger["slot"], value))
+            new = states.apply_action(current, action, trigger["slot"], value)
+            added = set(new.slots()) - set(current.slots())
+            return write(current, new, min(added) if added else (trigger["slot"] if action == "preset" else None))
         if trigger == ids.add:
-            return write(states.apply_action(current, "add")) if value else nothing
+            if not value:
+                return nothing
+            new = states.apply_action(current, "add")
+            added = set(new.slots()) - set(current.slots())
+            return write(current, new, min(added) if added else None)
         params = [(item["id"], item.get("value")) for item in ctx.inputs_list[1]]
         views = [(item["id"]["key"], item.get("value")) for item in ctx.inputs_list[2]]
         new = states.apply_inputs(current, params, views + [("tab", tab), ("ref", reference), ("zmax", zmax)])
         if codec.encode(new) == codec.encode(current):
             return nothing
-        reference_changed = trigger == ids.reference
-        search_out = "?" + codec.encode(new)
         # the inputs already show what was typed: only the link and the reference list change
-        return (search_out, no_update, no_update, no_update,
-                _reference_options(new) if not reference_changed else no_update, no_update)
+        return ("?" + codec.encode(new), [no_update] * len(slots), no_update, no_update, no_update,
+                _reference_options(new) if trigger != ids.reference else no_update, no_update)
+
+    @app.callback(
+        Output(ids.chip(ALL), "children"),
+        Output(ids.status(ALL), "children"),
+        Output(ids.add, "disabled"),
+        Output(ids.add_reason, "children"),
+        Input(ids.url, "search"),
+        State(ids.chip(ALL), "id"),
+    )
+    def summaries(search, chip_ids):
+        """Each slot's chip and status, and whether "+ add model" can act (with the reason)."""
+        state = codec.decode(search or "")
+        summary = chips(state)
+        slots = [item["slot"] for item in chip_ids]
+        full = len(state.models) >= codec.MAX_SLOTS
+        return ([chip(summary[k]) if k in summary else [] for k in slots],
+                [card_status(card_status_spec(state, k)) if k in summary else [] for k in slots],
+                full, f"all {codec.MAX_SLOTS} slots are in use: remove a model to add another" if full else "")
+
+    # browser-side: chips open their cards, tabs, copy link (layouts/assets/page.js)
+    app.clientside_callback(
+        ClientsideFunction("fd", "shells"),
+        Output(ids.slot(ALL), "className"),
+        Input(ids.chip(ALL), "n_clicks"),
+        Input(ids.shells, "data"),
+        State(ids.slot(ALL), "className"),
+        State(ids.slot(ALL), "id"),
+    )
+    app.clientside_callback(
+        ClientsideFunction("fd", "expanded"),
+        Output(ids.chip(MATCH), "aria-expanded"),
+        Input(ids.slot(MATCH), "className"),
+    )
+    app.clientside_callback(
+        ClientsideFunction("fd", "pickTab"),
+        Output(ids.tab, "data", allow_duplicate=True),
+        Input(ids.tab_button(ALL), "n_clicks"),
+        prevent_initial_call=True,
+    )
+    app.clientside_callback(
+        ClientsideFunction("fd", "tabState"),
+        Output(ids.tab_button(ALL), "aria-selected"),
+        Output(ids.tab_button(ALL), "tabIndex"),
+        Output(ids.tab_button(ALL), "className"),
+        Input(ids.tab, "data"),
+        State(ids.tab_button(ALL), "id"),
+    )
+    app.clientside_callback(
+        ClientsideFunction("fd", "copy"),
+        Output(ids.copy_status, "children"),
+        Input(ids.copy, "n_clicks"),
+        State(ids.link_text, "value"),
+        prevent_initial_call=True,
+    )
 
     @app.callback(
         Output(ids.panel, "children"),
         Output(ids.notice, "children"),
         Output(ids.notice_box, "style"),
-        Output(ids.copy, "content"),
+        Output(ids.link_text, "value"),
         Output(ids.data_tools, "style"),
         Output(ids.fit_slot, "options"),
         Output(ids.fit_slot, "value"),
@@ -260,15 +340,6 @@ def register(app) -> None:
             logger.exception("map failed for %r", search)
             return messages([("error", f"No map: the computation failed ({err})")])
         return map_view(result["spec"], result["notes"])
-
-    @app.callback(
-        Output(ids.status(MATCH), "children"),
-        Input(ids.url, "search"),
-        Input(ids.status(MATCH), "id"),
-    )
-    def status(search, status_id):
-        state = codec.decode(search or "")
-        return card_status(card_status_spec(state, status_id["slot"]))
 
     @app.callback(
         Output(ids.notice_box, "style", allow_duplicate=True),

@@ -24,14 +24,14 @@ def build(c: Comparison) -> PanelSpec:
         rows.append([e.name, num(ac.get("z_star")), num(ac.get("r_star"), 6, "Mpc"), num(theta["degrees"], 6, "deg"),
                      num(theta["hundred_rad"]), num(ac.get("z_drag")), num(ac.get("r_drag"), 6, "Mpc")])
     blocks = [{"kind": "table", "title": "Acoustic scales", "header": [
-        "model", "z* [dimensionless]", "r* = r_s(z*) [Mpc]", "θ* [deg]", "100 θ* [rad × 100]",
-        "z_drag [dimensionless]", "r_drag [Mpc]"], "rows": rows},
+        "model", "z*", "r* = r_s(z*) [Mpc]", "θ* [deg]", "100 θ* [rad × 100]",
+        "z_drag", "r_drag [Mpc]"], "rows": rows},
         {"kind": "text", "text": SOURCES}]
     blocks += [{"kind": "text", "tone": "caution", "text": f"{e.name}: {e.curves['acoustic']['r_drag_caution']}"}
                for e in c.entries if e.curves["acoustic"].get("r_drag_caution")]
     for key, title, symbol, kind in RATIOS:
         blocks.append({"kind": "figure", "id": f"fd-fig-{key}", "spec": {
-            "title": title, **z_axis(c), "y_title": f"{symbol} [dimensionless]", "y_hover": symbol, "unit": "",
+            "title": title, **z_axis(c), "y_title": f"{symbol}", "y_hover": symbol, "unit": "",
             "series": curve_series(c, lambda cv, k=key: cv["bao"][k]),
             "strip": strip(c, lambda cv, k=key: cv["bao"][k]), "points": data_points(c, kind)}})
     return {"blocks": blocks + measurement_note(c) + failures_note(c)}

@@ -53,7 +53,7 @@ def _epochs_table(c: Comparison) -> dict:
                      num(ep.get("age_today"), 5, "Gyr"), str(ep.get("fate", "–")),
                      num(ep.get("t_recollapse") or ep.get("t_big_rip"), 4, "Gyr")])
     return {"kind": "table", "title": "Epochs: redshift and age at z [Gyr] of each transition", "header": [
-        "model", "z equality [dimensionless]", "age at equality", "z matter = dark energy", "age then",
+        "model", "z equality", "age at equality", "z matter = dark energy", "age then",
         "z acceleration begins", "age then", "age today", "fate", "recollapse / big rip at"], "rows": rows}
 
 
@@ -66,24 +66,26 @@ def build(c: Comparison) -> PanelSpec:
         density_panels.append({"title": e.name, "slot": e.slot, "series": [
             _component(e, k, cv["rho_positive"][k], "ρ") for k in COMPONENTS + ("critical",) if k in cv["rho"]]
             + _guides(e)})
-    a_axis = {"x_title": "scale factor a [dimensionless]", "x_hover": "a", "x_log": True}
+    a_axis = {"x_title": "scale factor a", "x_hover": "a", "x_log": True}
     blocks = [
         {"kind": "multiples", "id": "fd-fig-fractions", "spec": {
             "title": "Density parameters Ω_i(a), from a = 1e-7 to a = 10", **a_axis,
-            "y_title": "Ω_i [dimensionless]", "unit": "", "panels": fraction_panels}},
+            "y_title": "Ω_i", "unit": "", "panels": fraction_panels}},
         {"kind": "multiples", "id": "fd-fig-densities", "spec": {
             "title": "Densities ρ_i(a) (negative values not drawn)", **a_axis, "y_log": True,
             "y_title": "ρ_i [kg m⁻³]", "unit": "kg m⁻³", "panels": density_panels}},
         {"kind": "figure", "id": "fd-fig-w", "spec": {
-            "title": "Dark-energy equation of state w(z)", **z_axis(c), "y_title": "w [dimensionless]",
+            "title": "Dark-energy equation of state w(z)", **z_axis(c), "y_title": "w",
             "y_hover": "w", "unit": "", "series": curve_series(c, lambda cv: cv["w"]),
             "strip": strip(c, lambda cv: cv["w"], kind="difference")}},
         {"kind": "figure", "id": "fd-fig-q", "spec": {
-            "title": "Deceleration parameter q(z)", **z_axis(c), "y_title": "q [dimensionless]", "y_hover": "q",
+            "title": "Deceleration parameter q(z)", **z_axis(c), "y_title": "q", "y_hover": "q",
             "unit": "", "series": curve_series(c, lambda cv: cv["at"]["deceleration_parameter"]),
             "strip": strip(c, lambda cv: cv["at"]["deceleration_parameter"], kind="difference")}},
         _epochs_table(c),
     ]
-    return {"intro": "Each small plot is one model; colour marks the component. Radiation falls as a⁻⁴, "
-                     "matter as a⁻³ and a cosmological constant stays constant (dotted guides).",
+    return {"intro": ("Each small plot is one model; colour marks the component (model colours are not used "
+                      "here). Radiation falls as a⁻⁴, matter as a⁻³ and a cosmological constant stays constant: "
+                      "the grey guides, each labelled at its start. Symbols at the top mark the epochs (see the "
+                      "legend; hover for the values)."),
             "blocks": blocks + failures_note(c)}

@@ -3,12 +3,12 @@
 
 from __future__ import annotations
 
-from layouts.specs import Card, CardStatus
+from layouts.specs import Card, CardStatus, Chip
 from server import codec, compute, fields
 from server.presets import PRESETS
 from server.views.comparison import num
 
-__all__ = ["cards", "card_status", "FIELD_HINTS", "HINT_LENGTH"]
+__all__ = ["cards", "chips", "card_status", "FIELD_HINTS", "HINT_LENGTH", "CHIP_CHANGES"]
 
 # What an empty input means, short enough to fit the input (about 20 characters at the cards'
 # width); the range line under each input says the rest.
@@ -18,6 +18,8 @@ FIELD_HINTS = {
     "omega_de": "empty = derived",
 }
 HINT_LENGTH = 20
+# a chip names at most this many changed parameters, then "+N more" (one line at 1024 px wide)
+CHIP_CHANGES = 3
 
 
 def _value_text(m: codec.ModelState, key: str, name: str) -> str:
@@ -51,8 +53,44 @@ def cards(state: codec.LinkState) -> list[Card]:
                 f"≤ {codec.MAX_MASSES} values, each {codec.range_text(spec)}",
                 "description": spec.description,
             })
-        out.append({"slot": m.slot, "label": m.label, "fields": fields, "presets": presets,
-                    "can_remove": len(state.models) > 1, "can_duplicate": not full})
+        card: Card = {"slot": m.slot, "label": m.label, "fields": fields, "presets": presets,
+                      "can_remove": len(state.models) > 1, "can_duplicate": not full}
+        if full:
+            card["duplicate_reason"] = f"all {codec.MAX_SLOTS} slots are in use: remove a model to copy this one"
+        if len(state.models) <= 1:
+            card["remove_reason"] = "the comparison needs at least one model"
+        out.append(card)
+    return out
+
+
+def _changes(m: codec.ModelState) -> str:
+    """The parameters of `m` that differ from a new card's, as ``symbol = value unit``."""
+    default = codec.ModelState(slot=m.slot)
+    parts = []
+    for key, name in codec.MODEL_KEYS:
+        if name == "label" or getattr(m, name) == getattr(default, name):
+            continue
+        if name == "omega_k" and m.omega_de is not None:
+            continue  # derived from Ω_de, which is listed itself
+        spec = codec.parameter_spec(name)
+        text = _value_text(m, key, name) or "–"
+        unit = f" {spec.unit}" if spec.unit and spec.unit != "1" else ""
+        parts.append(f"{spec.symbol} = {text}{unit}")
+    if len(parts) > CHIP_CHANGES:
+        parts = parts[:CHIP_CHANGES] + [f"+{len(parts) - CHIP_CHANGES} more"]
+    return ", ".join(parts) if parts else "defaults"
+
+
+def chips(state: codec.LinkState) -> dict[int, Chip]:
+    """Each model's one-line summary, by slot."""
+    ref = codec.reference_slot(state)
+    out: dict[int, Chip] = {}
+    for m in state.models:
+        chip: Chip = {"slot": m.slot, "label": m.name, "changes": _changes(m), "reference": m.slot == ref}
+        problem = compute.resolve(m).problem
+        if problem is not None:
+            chip["problem"] = problem.message
+        out[m.slot] = chip
     return out
 
 

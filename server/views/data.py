@@ -9,7 +9,7 @@ from layouts.specs import FigureBlock, PanelSpec, TableBlock
 from layouts.text import counted
 from server.views.comparison import (KIND_TITLES, SYNTHETIC_NOTE, Comparison, is_synthetic, kind_rows,
                                      measurements, num, scores)
-from server.views.parts import failures_note
+from server.views.parts import with_unit, failures_note
 
 __all__ = ["build"]
 
@@ -24,9 +24,9 @@ def _score_table(c: Comparison) -> TableBlock:
     results = scores(c)
     with_ic = c.state.view.fit is not None
     ref_name = c.reference.name if c.reference else "reference"
-    header = (["model", "χ² [dimensionless]", "degrees of freedom [count]", "p-value [probability]",
-               f"Δχ² vs {ref_name} [dimensionless]", "free parameters k [count]"]
-              + (["AIC [dimensionless]", "BIC [dimensionless]"] if with_ic else [])
+    header = (["model", "χ²", "degrees of freedom", "p-value",
+               f"Δχ² vs {ref_name}", "free parameters k"]
+              + (["AIC", "BIC"] if with_ic else [])
               + ["r_d used [Mpc]", "supernova offset M [mag]"])
     rows = []
     for e in c.entries:
@@ -64,9 +64,9 @@ def _residual_figures(c: Comparison) -> list[FigureBlock]:
         z = d.z[rows]
         blocks.append({"kind": "figure", "id": f"fd-fig-residual-{kind}", "spec": {
             "title": f"Residuals of {title} ({counted(rows.size, 'measurement')}): data − model, and pulls",
-            "x_title": "redshift z [dimensionless]", "x_hover": "z",
+            "x_title": "redshift z", "x_hover": "z",
             "x_log": bool(z.size and z.min() > 0 and z.max() / z.min() > 20),
-            "y_title": f"data − model [{unit or 'dimensionless'}]", "y_hover": "data − model", "unit": unit,
+            "y_title": with_unit("data − model", unit), "y_hover": "data − model", "unit": unit,
             "series": [], "points": points, "strip": {"y_title": "pull [σ]", "series": pulls, "unit": "σ"}}})
     return blocks
 

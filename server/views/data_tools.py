@@ -39,7 +39,8 @@ def _range_text(name: str) -> str:
 
 
 def _title(name: str) -> str:
-    return f"{FIT_LABELS[name]} [{_fit_unit(name) or 'dimensionless'}]"
+    unit = _fit_unit(name)
+    return f"{FIT_LABELS[name]} [{unit}]" if unit else FIT_LABELS[name]
 
 
 def data_tool_options() -> DataToolOptions:
@@ -169,7 +170,7 @@ def fit_report(fit: dict) -> FitReport:
         if len(names) > 1 else []
     how = " (fitted)" if "r_d" in names else " (minimised)" if fit["r_d_mode"] == "free" else " (model's)"
     summary = [
-        ["χ²_min = ", num(fit["chi2_min"], 6), f" [dimensionless] with {fit['dof']} degrees of freedom (p-value ",
+        ["χ²_min = ", num(fit["chi2_min"], 6), f" with {fit['dof']} degrees of freedom (p-value ",
          num(fit["p_value"], 3), f"); k = {fit['n_parameters']} free parameters: AIC = ", num(fit["aic"], 6),
          ", BIC = ", num(fit["bic"], 6), "."],
         ["r_d = ", num(fit["r_d"], 6, "Mpc"), how + "; supernova offset M = ", num(fit["offset"], 4, "mag"), "."],
@@ -216,7 +217,7 @@ def map_request(state: codec.LinkState, slot, x_name, y_name, bounds: dict, fit:
                      "those agree.")
     grid = compute.chi2_grid(resolved.key, state.view.data, xb, yb, MAP_POINTS, state.view.r_d)
     best = grid["best"]
-    notes.append(["Smallest χ² on the grid: ", num(grid["chi2_min"], 6), " [dimensionless] at ",
+    notes.append(["Smallest χ² on the grid: ", num(grid["chi2_min"], 6), " at ",
                   f"{FIT_LABELS[x_name]} = ", num(best[x_name], 5, _fit_unit(x_name)), ", ",
                   f"{FIT_LABELS[y_name]} = ", num(best[y_name], 5, _fit_unit(y_name)), "."])
     return {"spec": {"title": f"Δχ² for m{m.slot}: {m.name}", "x_title": _title(x_name), "y_title": _title(y_name),

@@ -21,4 +21,4 @@ def panel(c: Comparison, tab: str | None = None) -> PanelSpec:
 
 def page_options() -> PageOptions:
     return {"tabs": list(tabs.TAB_TITLES.items()), "zmax_range": f"0.01 ≤ z_max ≤ {codec.Z_MAX:g}",
-            "data_tools": data_tool_options()}
+            "max_models": codec.MAX_SLOTS, "view_controls": [], "data_tools": data_tool_options()}

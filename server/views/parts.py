@@ -10,13 +10,20 @@ from layouts.specs import Control, FigureBlock, Series, Strip, TextBlock
 from server import compute
 from server.views.comparison import Comparison, measurements
 
-__all__ = ["curve_series", "strip", "z_axis", "axis_title", "quantity_figure", "failures_note",
+__all__ = ["curve_series", "strip", "z_axis", "axis_title", "with_unit", "quantity_figure", "failures_note",
            "measurement_note", "view_control"]
 
 
 def axis_title(key: str) -> str:
+    """The axis title of a registered quantity: its symbol and unit (``"D_L [Mpc]"``; a
+    dimensionless quantity has no bracket). The long name goes into the figure's title."""
     q = model.QUANTITIES[key]
-    return f"{q.description} [{q.unit or 'dimensionless'}]"
+    return with_unit(q.symbol, q.unit)
+
+
+def with_unit(symbol: str, unit: str) -> str:
+    """``"symbol [unit]"``, or the symbol alone for a dimensionless quantity."""
+    return f"{symbol} [{unit}]" if unit else symbol
 
 
 def curve_series(c: Comparison, pick, x_pick=lambda cv: cv["z"]) -> list[Series]:
@@ -39,11 +46,13 @@ def strip(c: Comparison, pick, kind: str = "ratio", x_pick=lambda cv: cv["z"], u
             y = np.asarray(pick(e.curves), dtype=float)
             series.append({"name": e.name, "role": "model", "slot": e.slot, "x": x_pick(e.curves),
                            "y": compute.round_significant(y / ref if kind == "ratio" else y - ref)})
-    return {"y_title": "ratio to ref." if kind == "ratio" else "minus ref.", "series": series, "unit": unit}
+    word = "ratio to" if kind == "ratio" else "minus"
+    return {"y_title": "ratio" if kind == "ratio" else with_unit("difference", unit), "series": series,
+            "unit": unit, "reference": f"{word} m{c.reference.slot} {c.reference.name}"}
 
 
 def z_axis(c: Comparison) -> dict:
-    return {"x_title": "redshift z [dimensionless]", "x_hover": "z",
+    return {"x_title": "redshift z", "x_hover": "z",
             "x_log": c.state.view.zmax > compute.LINEAR_GRID_ZMAX}
 
 

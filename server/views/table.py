@@ -10,7 +10,7 @@ from layouts.specs import PanelSpec, TableSection
 from server import codec, compute
 from server.cache import fetch_many
 from server.views.comparison import Comparison, key_of, num
-from server.views.parts import failures_note, view_control
+from server.views.parts import failures_note, view_control, with_unit
 
 __all__ = ["build", "table_header", "table_sections"]
 
@@ -46,7 +46,7 @@ def table_sections(c: Comparison) -> list[TableSection]:
                 columns.append(v.tolist())
                 if e is not c.reference:
                     columns.append(np.where(ref != 0, v / np.where(ref != 0, ref, 1.0), np.nan).tolist())
-            name = f"{q.symbol} [{q.unit or 'dimensionless'}]"
+            name = with_unit(q.symbol, q.unit)
             by_theme[q.theme].extend([name, z_cells[i], *(num(col[i]) for col in columns)]
                                      for i in range(len(z_cells)))
     return [{"heading": heading, "rows": by_theme[theme]} for theme, heading in model.THEMES.items()
@@ -61,16 +61,16 @@ def build(c: Comparison) -> PanelSpec:
         view_control(c, "z", "redshifts (comma-separated)",
                      f"up to {codec.MAX_TABLE_REDSHIFTS} values, {codec.Z_MIN:g} ≤ z ≤ {codec.Z_MAX:g}"),
         {"key": "iq", "kind": "dropdown", "label": "inverse look-up: quantity", "value": quantity,
-         "options": [{"label": f"{model.QUANTITIES[k].description} [{model.QUANTITIES[k].unit or 'dimensionless'}]",
+         "options": [{"label": with_unit(model.QUANTITIES[k].description, model.QUANTITIES[k].unit),
                       "value": k} for k in codec.invertible()]},
-        view_control(c, "iv", f"value [{q.unit or 'dimensionless'}]", "0 ≤ value"),
+        view_control(c, "iv", with_unit("value", q.unit), "0 ≤ value"),
     ]
     found = fetch_many(compute.inverse_lookup, [(key_of(c, e.slot), quantity, view.inverse_value)
                                                  for e in c.entries])
     header, column_slots = table_header(c)
     blocks = [
         {"kind": "table", "title": [f"Redshift where {q.description} = ", num(view.inverse_value, 6, q.unit)],
-         "header": ["model", "z [dimensionless] (– where none)"],
+         "header": ["model", "z (– where none)"],
          "rows": [[e.name, num(z)] for e, z in zip(c.entries, found)]},
         {"kind": "table", "title": "Every quantity at the link's redshifts", "header": header,
          "sections": table_sections(c), "column_slots": column_slots},

@@ -12,9 +12,9 @@ __all__ = ["build"]
 def build(c: Comparison) -> PanelSpec:
     history = {"kind": "figure", "id": "fd-fig-history", "spec": {
         "title": "Scale factor against cosmic time, into the future", "x_title": "cosmic time t [Gyr]",
-        "x_hover": "t [Gyr]", "y_title": "scale factor a [dimensionless]", "y_hover": "a", "unit": "",
+        "x_hover": "t [Gyr]", "y_title": "a", "y_hover": "a", "unit": "",
         "x_log": False, "series": curve_series(c, lambda cv: cv["history"]["a"], x_pick=lambda cv: cv["history"]["t"]),
         "strip": None,
-        "markers": [{"x": e.curves["epochs"]["age_today"], "text": f"today ({e.name})", "slot": e.slot}
+        "markers": [{"x": e.curves["epochs"]["age_today"], "text": "today", "slot": e.slot, "model": e.name}
                     for e in c.entries if e.curves["epochs"].get("age_today") is not None]}}
     return {"blocks": [quantity_figure(c, "age"), quantity_figure(c, "lookback_time"), history] + failures_note(c)}

@@ -31,7 +31,7 @@ def build(c: Comparison) -> PanelSpec:
     blocks = [
         {"kind": "table", "title": ["Survey box: ", num(view.sky_area, 10, "deg²"), ", ", num(view.survey[0]),
                                     " < z < ", num(view.survey[1])],
-         "header": ["model", "comoving volume [Gpc³]", f"ratio to {ref_name} [dimensionless]"],
+         "header": ["model", "comoving volume [Gpc³]", f"ratio to {ref_name}"],
          "rows": survey_rows(c)},
         quantity_figure(c, "comoving_volume", y_log=view.zmax > compute.LINEAR_GRID_ZMAX),
         quantity_figure(c, "comoving_volume_element"),

@@ -15,7 +15,7 @@ import model
 from layouts.text import number
 from server import codec, data_store
 
-from test_page import open_link, wait_until
+from test_page import click_tab, models_shown, open_link, wait_until
 
 DEMO = model.read_measurements(data_store.DEMO_PATH)
 
@@ -33,7 +33,7 @@ def test_demo_data_chi2_fit_load_into_slot_and_map(dash_duo, app_factory):
     dash_duo.find_element("#fd-data-demo").click()
     wait_until(dash_duo, lambda d: "data=" in d.current_url)
     dash_duo.wait_for_contains_text("#fd-data-message", "synthetic demo data", timeout=10)
-    dash_duo.wait_for_contains_text("#fd-panel .fd-table", "χ² [dimensionless]", timeout=20)
+    dash_duo.wait_for_contains_text("#fd-panel .fd-table", "Δχ² vs", timeout=20)
     dash_duo.wait_for_contains_text("#fd-panel .fd-error", "synthetic", timeout=10)
     for m in codec.demo_models():
         expected = model.goodness_of_fit(_cosmology(m), DEMO)
@@ -54,7 +54,7 @@ def test_demo_data_chi2_fit_load_into_slot_and_map(dash_duo, app_factory):
     state = codec.decode(query)
     fitted = next(m for m in state.models if m.slot == 4)
     assert abs(fitted.omega_m - direct.best["omega_m"]) < 1e-6 and abs(fitted.w0 - direct.best["w0"]) < 1e-6
-    wait_until(dash_duo, lambda d: len(d.find_elements(By.CSS_SELECTOR, ".fd-card")) == 4)
+    wait_until(dash_duo, lambda d: models_shown(d) == 4)
     dash_duo.wait_for_contains_text("#fd-panel .fd-table", "AIC", timeout=20)
 
     dash_duo.find_element("#fd-map-run").click()
@@ -73,7 +73,7 @@ def test_malformed_table_and_expired_reference_are_reported_and_panels_keep_work
     dash_duo.wait_for_contains_text("#fd-data-message", "Nothing was loaded")
     assert "data=" + "0" * codec.DATA_HASH_LENGTH in dash_duo.driver.current_url  # the link is unchanged
     # another panel still draws the model, and says why no measurements are shown
-    dash_duo.find_element("#fd-tab").find_element(By.XPATH, ".//*[text()='Distances']").click()
+    click_tab(dash_duo, "Distances")
     wait_until(dash_duo, lambda d: "tab=distances" in d.current_url)
     wait_until(dash_duo, lambda d: any("Alone" in e.text for e in d.find_elements(By.CSS_SELECTOR, ".legendtext")))
     dash_duo.wait_for_contains_text("#fd-panel .fd-error", "no longer stored")

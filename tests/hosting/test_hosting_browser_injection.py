@@ -59,7 +59,7 @@ def test_injection_labels_are_shown_as_typed_and_never_run(dash_duo, app_factory
                                   for t in INJECTIONS))
     _assert_inert(driver)
 
-    dash_duo.find_element("#fd-tab").find_element(By.XPATH, ".//*[text()='Table']").click()
+    dash_duo.driver.find_element(By.XPATH, "//*[@role='tab'][normalize-space(text())='Table']").click()
     _wait(dash_duo, lambda d: "tab=table" in d.current_url)
     for text in INJECTIONS:
         dash_duo.wait_for_contains_text("#fd-panel", text)

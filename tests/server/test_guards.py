@@ -9,7 +9,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-PANEL_OUTPUT = ("..fd-panel.children...fd-notice.children...fd-notice-box.style...fd-copy.content..."
+PANEL_OUTPUT = ("..fd-panel.children...fd-notice.children...fd-notice-box.style...fd-link-text.value..."
                 "fd-data-tools.style...fd-fit-slot.options...fd-fit-slot.value..")
 
 

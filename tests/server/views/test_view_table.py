@@ -24,7 +24,7 @@ Z = np.array([0.5, 2.0])
 
 
 def _name(q):
-    return f"{q.symbol} [{q.unit or 'dimensionless'}]"
+    return f"{q.symbol} [{q.unit}]" if q.unit else q.symbol  # no bracket when dimensionless
 
 
 def _quantity_table(spec):

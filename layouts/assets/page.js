@@ -1,0 +1,103 @@
+/* Browser-side parts of the page (layouts/page.py, layouts/cards.py, server/callbacks.py):
+   chips that open and close their cards, the panel tabs (role=tab, roving tabindex, arrow
+   keys), and "copy link". None of them needs the server. */
+(function () {
+  "use strict";
+  var noUpdate = function () { return window.dash_clientside.no_update; };
+
+  function classes(text) { return (text || "").split(/\s+/).filter(Boolean); }
+
+  var fd = {
+    // The slot shells' classes (SHELL_CLASSES in layouts/cards.py): a chip click opens its card
+    // and closes the others (a second click closes it); the server's {"filled", "open"} says
+    // which slots hold a model and which card to open (one just added, copied or preset).
+    shells: function (clicks, shells, names, ids) {
+      var ctx = window.dash_clientside.callback_context;
+      var trigger = ctx.triggered_id;
+      var opened = names.map(function (n) { return classes(n).indexOf("fd-open") >= 0; });
+      var filled = names.map(function (n) { return classes(n).indexOf("fd-empty") < 0; });
+      if (trigger && trigger.type === "fd-chip") {
+        var k = ids.map(function (id) { return id.slot; }).indexOf(trigger.slot);
+        if (k < 0 || !filled[k]) { return noUpdate(); }
+        var now = !opened[k];
+        opened = opened.map(function () { return false; });
+        opened[k] = now;
+      } else if (shells) {
+        filled = ids.map(function (id) { return shells.filled.indexOf(id.slot) >= 0; });
+        opened = ids.map(function (id, i) {
+          if (shells.open) { return id.slot === shells.open; }
+          return opened[i] && filled[i];
+        });
+      } else {
+        return noUpdate();
+      }
+      return ids.map(function (id, i) {
+        return !filled[i] ? "fd-slot fd-empty" : (opened[i] ? "fd-slot fd-open" : "fd-slot");
+      });
+    },
+    expanded: function (className) {
+      return classes(className).indexOf("fd-open") >= 0 ? "true" : "false";
+    },
+    // a tab button clicked: its key becomes the open tab (the link follows through `sync`)
+    pickTab: function () {
+      var trigger = window.dash_clientside.callback_context.triggered_id;
+      if (!trigger || !trigger.key) { return noUpdate(); }
+      return trigger.key;
+    },
+    // the open tab: selected state, roving tabindex and style of every tab button
+    tabState: function (tab, ids) {
+      var selected = ids.map(function (id) { return id.key === tab ? "true" : "false"; });
+      var index = ids.map(function (id) { return id.key === tab ? 0 : -1; });
+      var names = ids.map(function (id) { return id.key === tab ? "fd-tab fd-tab-selected" : "fd-tab"; });
+      return [selected, index, names];
+    },
+    copy: function (clicks, link) {
+      if (!clicks || !link) { return noUpdate(); }
+      var box = document.getElementById("fd-link-text");
+      var fallback = function () {
+        if (box) { box.focus(); box.select(); }
+        try { return document.execCommand("copy") ? "link copied" : "press Ctrl+C to copy the selected link"; }
+        catch (e) { return "press Ctrl+C to copy the selected link"; }
+      };
+      if (navigator.clipboard && window.isSecureContext) {
+        return navigator.clipboard.writeText(link).then(function () { return "link copied"; }, fallback);
+      }
+      return fallback();
+    }
+  };
+  window.dash_clientside = Object.assign({}, window.dash_clientside, {fd: fd});
+
+  // Arrow keys, Home and End move between the tabs and open the one reached (WAI-ARIA
+  // Authoring Practices, "Tabs" pattern with automatic activation).
+  document.addEventListener("keydown", function (event) {
+    var tab = event.target.closest && event.target.closest("[role=tab]");
+    if (!tab) { return; }
+    var list = Array.prototype.slice.call(tab.parentNode.querySelectorAll("[role=tab]"));
+    var i = list.indexOf(tab), next = null;
+    if (event.key === "ArrowRight") { next = list[(i + 1) % list.length]; }
+    else if (event.key === "ArrowLeft") { next = list[(i - 1 + list.length) % list.length]; }
+    else if (event.key === "Home") { next = list[0]; }
+    else if (event.key === "End") { next = list[list.length - 1]; }
+    if (!next) { return; }
+    event.preventDefault();
+    next.focus();
+    next.click();
+  });
+
+  // A click outside every slot closes the open card (through its chip, so the page's state follows).
+  document.addEventListener("click", function (event) {
+    if (!event.target.closest || event.target.closest(".fd-slot")) { return; }
+    if (!document.body.contains(event.target)) { return; }  // a dropdown option removed on click
+    var open = document.querySelector(".fd-slot.fd-open > .fd-chip");
+    if (open) { open.click(); }
+  });
+
+  // Escape closes the card that holds the focus and gives the focus back to its chip.
+  document.addEventListener("keydown", function (event) {
+    if (event.key !== "Escape") { return; }
+    var shell = event.target.closest && event.target.closest(".fd-slot.fd-open");
+    if (!shell) { return; }
+    var chip = shell.querySelector(".fd-chip");
+    if (chip) { chip.click(); chip.focus(); }
+  });
+})();
