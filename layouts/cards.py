@@ -59,7 +59,7 @@ def chip(summary: Chip) -> list:
     if summary.get("changes"):
         out.append(html.Span(summary["changes"], className="fd-chip-changes"))
     if summary.get("reference"):
-        out.append(html.Span("reference", className="fd-ref-badge"))
+        out.append(html.Span("ref", className="fd-ref-badge", title="the reference model: strips and Δ are against it"))
     if summary.get("problem"):
         out.append(html.Span("fix me", className="fd-chip-problem", title=summary["problem"]))
     out.append(html.Span("▾", className="fd-chip-caret", **{"aria-hidden": "true"}))
@@ -86,8 +86,8 @@ def model_card(card: Card) -> html.Div:
     return html.Div(className="fd-card", style={"borderTopColor": colour}, children=[
         html.Div(className="fd-card-head", children=[
             line_sample(slot),
-            html.Span(f"m{slot}", className="fd-slot-name"),
-            html.Label(f"m{slot} label", htmlFor=dom_id(ids.param(slot, "label")), className="fd-sr-only"),
+            html.Label([f"m{slot}", html.Span(" label", className="fd-sr-only")], className="fd-slot-name",
+                       htmlFor=dom_id(ids.param(slot, "label"))),
             dcc.Input(id=ids.param(slot, "label"), type="text", value=card["label"], debounce=True,
                       placeholder=f"Model {slot}", className="fd-label-input", maxLength=80),
         ]),

@@ -10,7 +10,7 @@ from __future__ import annotations
 from dash import dcc, html
 
 from layouts.figures import chi2_map_figure
-from layouts.ids import ids
+from layouts.ids import dom_id, ids
 from layouts.specs import DataToolOptions, FitReport
 from layouts.tables import table
 from layouts.text import render
@@ -21,10 +21,12 @@ __all__ = ["data_tools", "fit_report", "map_view", "messages"]
 def _bound_inputs(p: dict) -> html.Div:
     unit = f" [{p['unit']}]" if p.get("unit") else ""
     return html.Div(className="fd-fit-param", children=[
-        html.Span(f"{p['label']}{unit}", className="fd-fit-name"),
+        html.Label([f"{p['label']}{unit}", html.Span(" from", className="fd-sr-only")], className="fd-fit-name",
+                   htmlFor=dom_id(ids.fit_bound(p["name"], "low"))),
         dcc.Input(id=ids.fit_bound(p["name"], "low"), type="text", value=p["low"], debounce=False,
                   className="fd-input fd-short", placeholder="low"),
-        html.Span("to"),
+        html.Label(["to", html.Span(f" (upper bound of {p['label']})", className="fd-sr-only")],
+                   htmlFor=dom_id(ids.fit_bound(p["name"], "high"))),
         dcc.Input(id=ids.fit_bound(p["name"], "high"), type="text", value=p["high"], debounce=False,
                   className="fd-input fd-short", placeholder="high"),
         html.Small(p["range"], className="fd-range"),
@@ -56,6 +58,7 @@ def data_tools(options: DataToolOptions) -> html.Div:
                            children=html.Div("optional covariance file: drop or click (choose it first)")),
                 html.Span(id=ids.covariance_name, className="fd-note"),
             ]),
+            html.Label("or paste a table here", htmlFor=ids.data_text, className="fd-control-label"),
             dcc.Textarea(id=ids.data_text, className="fd-data-text", placeholder=options["placeholder"],
                          spellCheck=False),
             html.Div(className="fd-data-row", children=[

@@ -45,7 +45,8 @@ def page(options: PageOptions) -> html.Div:
             html.Div([html.H1("Friedmann Desk"),
                       html.Span("compare up to four expansion histories", className="fd-tagline")]),
             html.Div(className="fd-header-actions", children=[
-                html.Label("link to this view", htmlFor=ids.link_text, className="fd-sr-only"),
+                html.Label("link", htmlFor=ids.link_text, className="fd-viewbar-label",
+                           title="the link to this view: every model and setting is in it"),
                 dcc.Input(id=ids.link_text, type="text", value="", readOnly=True, className="fd-link-text"),
                 html.Button("copy link", id=ids.copy, n_clicks=0, type="button", className="fd-button",
                             title="copy the link to this view (every model and setting is in it)"),

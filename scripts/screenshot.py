@@ -37,7 +37,7 @@ def main(out: str) -> None:
                 time.sleep(0.2)
         subprocess.run(["chromium", "--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
                         f"--user-data-dir={tempfile.mkdtemp()}", "--virtual-time-budget=10000",
-                        "--window-size=1600,1400", f"--screenshot={Path(out).resolve()}",
+                        "--window-size=1280,800", f"--screenshot={Path(out).resolve()}",
                         f"http://127.0.0.1:{port}/?{LINK}"], check=True, capture_output=True)
     finally:
         server.terminate()

@@ -87,6 +87,7 @@ def register(app) -> None:
         Output(ids.reference, "value"),
         Output(ids.reference, "options"),
         Output(ids.zmax, "value"),
+        Output(ids.view(ALL), "value"),
         Input(ids.url, "search"),
         Input(ids.param(ALL, ALL), "value"),
         Input(ids.view(ALL), "value"),
@@ -103,18 +104,22 @@ def register(app) -> None:
         current = codec.decode(search or "")
         trigger = ctx.triggered_id
         slots = [item["slot"] for item in _rest[-1]]
-        nothing = (no_update, [no_update] * len(slots)) + (no_update,) * 5
+        view_keys = [item["id"]["key"] for item in ctx.outputs_list[-1]]
+        unchanged_views = [no_update] * len(view_keys)
+        nothing = (no_update, [no_update] * len(slots)) + (no_update,) * 5 + (unchanged_views,)
 
         def from_link(state):
+            # Back, Forward or a link opened: every input shows the link's value
             return (no_update, _card_bodies(state, slots), _shells(state), state.view.tab,
-                    codec.reference_slot(state), _reference_options(state), state.view.value_text("zmax"))
+                    codec.reference_slot(state), _reference_options(state), state.view.value_text("zmax"),
+                    [state.view.value_text(k) for k in view_keys])
 
         def write(old, new, opened=None):
             # only the cards whose content changed are sent again: text typed in another card stays
             before, after = _card_specs(old), _card_specs(new)
             bodies = [no_update if before.get(k) == after.get(k) else _card_body(after.get(k)) for k in slots]
             return ("?" + codec.encode(new), bodies, _shells(new, opened), no_update,
-                    codec.reference_slot(new), _reference_options(new), no_update)
+                    codec.reference_slot(new), _reference_options(new), no_update, unchanged_views)
 
         if trigger is None or trigger == ids.url:
             return from_link(current)
@@ -139,7 +144,7 @@ def register(app) -> None:
             return nothing
         # the inputs already show what was typed: only the link and the reference list change
         return ("?" + codec.encode(new), [no_update] * len(slots), no_update, no_update, no_update,
-                _reference_options(new) if trigger != ids.reference else no_update, no_update)
+                _reference_options(new) if trigger != ids.reference else no_update, no_update, unchanged_views)
 
     @app.callback(
         Output(ids.chip(ALL), "children"),
@@ -157,7 +162,7 @@ def register(app) -> None:
         full = len(state.models) >= codec.MAX_SLOTS
         return ([chip(summary[k]) if k in summary else [] for k in slots],
                 [card_status(card_status_spec(state, k)) if k in summary else [] for k in slots],
-                full, f"all {codec.MAX_SLOTS} slots are in use: remove a model to add another" if full else "")
+                full, f"all {codec.MAX_SLOTS} slots in use" if full else "")
 
     # browser-side: chips open their cards, tabs, copy link (layouts/assets/page.js)
     app.clientside_callback(

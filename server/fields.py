@@ -26,7 +26,8 @@ from server.tabs import TAB_KEYS
 __all__ = [
     "MAX_SLOTS", "MAX_LABEL_LENGTH", "MAX_TABLE_REDSHIFTS", "MAX_MASSES", "Z_MIN", "Z_MAX",
     "FULL_SKY_DEG2", "MAX_BIN_EDGES", "REQUIRED_DEFAULTS", "MODEL_KEYS", "FIELD_OF", "DISTANCE_CHOICES",
-    "DATA_HASH_LENGTH", "R_D_CHOICES", "FIT_KEYS", "Refusal", "ViewKey", "VIEW_KEYS", "VIEW_KEY",
+    "DATA_HASH_LENGTH", "R_D_CHOICES", "DISTANCE_UNITS", "AXIS_SCALES",
+    "FIT_KEYS", "Refusal", "ViewKey", "VIEW_KEYS", "VIEW_KEY",
     "format_number", "readable_number", "parse_number", "parameter_spec", "range_text", "default_of", "normal_masses",
     "check_model_value", "invertible",
 ]
@@ -58,6 +59,12 @@ DISTANCE_CHOICES = {
     "da": "angular_diameter_distance",
     "dl": "luminosity_distance",
 }
+# Units the distance figures can be drawn in (view key du): the link's spelling -> (unit on the axis,
+# factor on a distance in Mpc; None = times the model's own h = H0 / (100 km/s/Mpc)).
+DISTANCE_UNITS = {"mpc": ("Mpc", 1.0), "hmpc": ("h⁻¹ Mpc", None), "gpc": ("Gpc", 1e-3)}
+# Axis scales (view keys xs for the redshift axis, ys for the value axis); auto = the page's choice
+# (a log redshift axis beyond z = 10, a log volume axis there too).
+AXIS_SCALES = ("auto", "lin", "log")
 # A stored measurement set is named by this many lowercase hex digits of its SHA-256.
 DATA_HASH_LENGTH = 24
 _DATA_HASH = re.compile(f"[0-9a-f]{{{DATA_HASH_LENGTH}}}")
@@ -330,6 +337,9 @@ VIEW_KEYS: tuple[ViewKey, ...] = (
     ViewKey("rd", "r_d", _choice("rd", "a sound-horizon choice", lambda: R_D_CHOICES), str, "model"),
     ViewKey("fit", "fit", _fit, lambda v: f"{v[0]}:{','.join(v[1])}", None),
     ViewKey("res", "residual_slot", _residual_choice, str, "all"),
+    ViewKey("du", "distance_unit", _choice("du", "a distance unit", lambda: DISTANCE_UNITS), str, "mpc"),
+    ViewKey("xs", "x_scale", _choice("xs", "an axis scale", lambda: AXIS_SCALES), str, "auto"),
+    ViewKey("ys", "y_scale", _choice("ys", "an axis scale", lambda: AXIS_SCALES), str, "auto"),
     ViewKey("rbin", "residual_bins", _bin_edges, _numbers, None),
 )
 VIEW_KEY = {row.key: row for row in VIEW_KEYS}

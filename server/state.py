@@ -182,6 +182,9 @@ class ViewState:
     fit: tuple[int, tuple[str, ...]] | None = _view_default("fit")
     residual_slot: str | int = _view_default("res")
     residual_bins: tuple[float, ...] | None = _view_default("rbin")
+    distance_unit: str = _view_default("du")
+    x_scale: str = _view_default("xs")
+    y_scale: str = _view_default("ys")
     invalid: tuple[tuple[str, str], ...] = ()
 
     def problems(self) -> tuple[Problem, ...]:

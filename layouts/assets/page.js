@@ -92,6 +92,29 @@
     if (open) { open.click(); }
   });
 
+  // AG Grid keeps empty row containers (full-width and sticky rows, unused here) marked as
+  // rowgroups; a rowgroup must hold rows (WAI-ARIA 1.2), so the empty ones are made presentational.
+  var EMPTY_GROUPS = ".ag-full-width-container, .ag-sticky-top-viewport, .ag-sticky-top-full-width-container, " +
+    ".ag-sticky-bottom-viewport, .ag-sticky-bottom-full-width-container";
+  function tidyGrids() {
+    // a file input made by dcc.Upload has no id a label could name: it takes its box's text
+    document.querySelectorAll(".fd-upload input[type=file]:not([aria-label])").forEach(function (input) {
+      var box = input.closest(".fd-upload");
+      input.setAttribute("aria-label", (box && box.textContent.trim()) || "choose a file");
+    });
+    document.querySelectorAll(EMPTY_GROUPS).forEach(function (el) {
+      var empty = !el.querySelector("[role=row]");
+      if (empty && el.getAttribute("role") === "rowgroup") { el.setAttribute("role", "presentation"); }
+      else if (!empty && el.getAttribute("role") === "presentation") { el.setAttribute("role", "rowgroup"); }
+    });
+  }
+  var pending = false;
+  new MutationObserver(function () {
+    if (pending) { return; }
+    pending = true;
+    window.requestAnimationFrame(function () { pending = false; tidyGrids(); });
+  }).observe(document.documentElement, {childList: true, subtree: true});
+
   // Escape closes the card that holds the focus and gives the focus back to its chip.
   document.addEventListener("keydown", function (event) {
     if (event.key !== "Escape") { return; }

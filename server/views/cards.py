@@ -56,7 +56,7 @@ def cards(state: codec.LinkState) -> list[Card]:
         card: Card = {"slot": m.slot, "label": m.label, "fields": fields, "presets": presets,
                       "can_remove": len(state.models) > 1, "can_duplicate": not full}
         if full:
-            card["duplicate_reason"] = f"all {codec.MAX_SLOTS} slots are in use: remove a model to copy this one"
+            card["duplicate_reason"] = f"all {codec.MAX_SLOTS} slots in use: remove a model to copy this one"
         if len(state.models) <= 1:
             card["remove_reason"] = "the comparison needs at least one model"
         out.append(card)

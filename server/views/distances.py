@@ -8,7 +8,8 @@ from layouts.specs import PanelSpec
 from server import codec
 from server.views.comparison import (DISTANCE_KIND, Comparison, data_points, residual_points,
                                      strip_points)
-from server.views.parts import curve_series, failures_note, measurement_note, quantity_figure, strip, z_axis
+from server.views.parts import (curve_series, distance_factor, failures_note, measurement_note, quantity_figure,
+                                strip, z_axis)
 
 __all__ = ["build"]
 
@@ -25,8 +26,13 @@ def build(c: Comparison) -> PanelSpec:
                              for k, v in codec.DISTANCE_CHOICES.items()]}]
     distance = quantity_figure(c, key)
     # the link's measurements on the matching plots (nothing when the link names none)
+    unit_note = []
     if choice in DISTANCE_KIND:
-        distance["spec"]["points"] = data_points(c, DISTANCE_KIND[choice])
+        factor = distance_factor(c, c.reference.curves) if c.reference else 1.0
+        distance["spec"]["points"] = data_points(c, DISTANCE_KIND[choice], lambda z, v, err: (v * factor, err * factor))
+        if distance["spec"]["points"] and c.state.view.distance_unit == "hmpc":
+            unit_note = [{"kind": "text", "text": f"The measurements (in Mpc) are drawn in h⁻¹ Mpc with the reference "
+                                                  f"model's h = {c.reference.curves['params']['h0'] / 100:.4g}."}]
         if distance["spec"]["strip"]:
             distance["spec"]["strip"]["points"] = strip_points(c, DISTANCE_KIND[choice])
     modulus = {"kind": "figure", "id": "fd-fig-dmu", "spec": {
@@ -46,4 +52,4 @@ def build(c: Comparison) -> PanelSpec:
     if modulus["spec"]["points"]:
         blocks.append({"kind": "text", "text": OFFSET_NOTE})
     blocks += [quantity_figure(c, "angular_scale", title="Angular scale (proper kpc per arcsec)"), expansion]
-    return {"controls": controls, "blocks": blocks + measurement_note(c) + failures_note(c)}
+    return {"controls": controls, "blocks": blocks + unit_note + measurement_note(c) + failures_note(c)}

@@ -2,13 +2,13 @@
 
 from __future__ import annotations
 
-from layouts.specs import PageOptions, PanelSpec
-from server import codec, tabs
+from layouts.specs import Control, PageOptions, PanelSpec
+from server import codec, fields, tabs
 from server.views.comparison import Comparison
 from server.views.data_tools import data_tool_options
 from server.views.parts import failures_note
 
-__all__ = ["panel", "page_options"]
+__all__ = ["panel", "page_options", "view_controls", "VIEW_BAR"]
 
 
 def panel(c: Comparison, tab: str | None = None) -> PanelSpec:
@@ -21,4 +21,20 @@ def panel(c: Comparison, tab: str | None = None) -> PanelSpec:
 
 def page_options() -> PageOptions:
     return {"tabs": list(tabs.TAB_TITLES.items()), "zmax_range": f"0.01 ≤ z_max ≤ {codec.Z_MAX:g}",
-            "max_models": codec.MAX_SLOTS, "view_controls": [], "data_tools": data_tool_options()}
+            "max_models": codec.MAX_SLOTS, "view_controls": view_controls(), "data_tools": data_tool_options()}
+
+
+# the view bar's settings, which every panel follows: (key, label, {link value: text})
+VIEW_BAR = (
+    ("du", "distances in", {k: unit for k, (unit, _) in fields.DISTANCE_UNITS.items()}),
+    ("xs", "redshift axis", {"auto": "auto", "lin": "linear", "log": "log"}),
+    ("ys", "value axis", {"auto": "auto", "lin": "linear", "log": "log"}),
+)
+
+
+def view_controls(state: codec.LinkState | None = None) -> list[Control]:
+    """The view bar's dropdowns, showing `state`'s values (the defaults without one)."""
+    view = (state or codec.decode("")).view
+    return [{"key": key, "kind": "dropdown", "label": label, "value": view.value_text(key),
+             "options": [{"label": text, "value": value} for value, text in choices.items()]}
+            for key, label, choices in VIEW_BAR]

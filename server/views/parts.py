@@ -7,10 +7,10 @@ import numpy as np
 
 import model
 from layouts.specs import Control, FigureBlock, Series, Strip, TextBlock
-from server import compute
+from server import compute, fields
 from server.views.comparison import Comparison, measurements
 
-__all__ = ["curve_series", "strip", "z_axis", "axis_title", "with_unit", "quantity_figure", "failures_note",
+__all__ = ["curve_series", "strip", "scale", "distance_factor", "z_axis", "axis_title", "with_unit", "quantity_figure", "failures_note",
            "measurement_note", "view_control"]
 
 
@@ -51,18 +51,40 @@ def strip(c: Comparison, pick, kind: str = "ratio", x_pick=lambda cv: cv["z"], u
             "unit": unit, "reference": f"{word} m{c.reference.slot} {c.reference.name}"}
 
 
+def scale(choice: str, auto: bool) -> bool:
+    """Whether an axis is logarithmic: the link's ``xs``/``ys`` choice, or `auto` for ``auto``."""
+    return auto if choice == "auto" else choice == "log"
+
+
 def z_axis(c: Comparison) -> dict:
     return {"x_title": "redshift z", "x_hover": "z",
-            "x_log": c.state.view.zmax > compute.LINEAR_GRID_ZMAX}
+            "x_log": scale(c.state.view.x_scale, c.state.view.zmax > compute.LINEAR_GRID_ZMAX)}
+
+
+def distance_factor(c: Comparison, curves: dict) -> float:
+    """What turns a distance in Mpc into the link's distance unit (view key ``du``), for the
+    model whose `curves` these are (h⁻¹ Mpc takes that model's own h)."""
+    factor = fields.DISTANCE_UNITS[c.state.view.distance_unit][1]
+    return curves["params"]["h0"] / 100.0 if factor is None else factor
 
 
 def quantity_figure(c: Comparison, key: str, title: str | None = None, kind: str = "ratio",
                     y_log: bool = False) -> FigureBlock:
-    """One registered quantity (`model.QUANTITIES`) against redshift, with its strip."""
+    """One registered quantity (`model.QUANTITIES`) against redshift, with its strip. A
+    distance in Mpc is drawn in the link's distance unit (``du``); the value axis follows ``ys``."""
     q = model.QUANTITIES[key]
-    spec = {"title": title or q.description, **z_axis(c), "y_title": axis_title(key), "y_hover": q.symbol,
-            "unit": q.unit, "y_log": y_log, "series": curve_series(c, lambda cv: cv["at"][key]),
-            "strip": strip(c, lambda cv: cv["at"][key], kind=kind, unit=q.unit if kind == "difference" else "")}
+    unit = q.unit
+    if unit == "Mpc":
+        unit = fields.DISTANCE_UNITS[c.state.view.distance_unit][0]
+
+        def pick(cv):
+            return compute.round_significant(np.asarray(cv["at"][key], dtype=float) * distance_factor(c, cv))
+    else:
+        def pick(cv):
+            return cv["at"][key]
+    spec = {"title": title or q.description, **z_axis(c), "y_title": with_unit(q.symbol, unit), "y_hover": q.symbol,
+            "unit": unit, "y_log": scale(c.state.view.y_scale, y_log), "series": curve_series(c, pick),
+            "strip": strip(c, pick, kind=kind, unit=unit if kind == "difference" else "")}
     return {"kind": "figure", "spec": spec, "id": f"fd-fig-{key}"}
 
 

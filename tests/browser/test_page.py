@@ -176,7 +176,7 @@ def test_four_models_fill_the_row_and_add_says_why_it_cannot(dash_duo, app_facto
     wait_until(dash_duo, lambda d: models_shown(d) == 4)
     add = dash_duo.find_element("#fd-add")
     wait_until(dash_duo, lambda d: not add.is_enabled())
-    dash_duo.wait_for_contains_text("#fd-add-reason", "all 4 slots are in use")
+    dash_duo.wait_for_contains_text("#fd-add-reason", "all 4 slots in use")
     # every chip carries its label and what differs from a new card (values as the link has them)
     chips = [e.text for e in dash_duo.find_elements(".fd-slot:not(.fd-empty) .fd-chip")]
     assert "Thawing candidate" in chips[1] and "w₀ = -0.9" in chips[1] and "w_a = -0.3" in chips[1]

@@ -1,0 +1,140 @@
+"""The page in front of a group, in headless Chromium: the first figure on the first screen,
+the view bar's units in the link, figure exports drawn in the browser at the sizes asked for
+(checked by reading the PNG header, ISO/IEC 15948 section 11.2.2), no button that sends a
+figure to a cloud service, and no serious or critical WCAG 2 A/AA violation on any tab
+(axe-core, as bundled by the axe-selenium-python package)."""
+
+from __future__ import annotations
+
+import base64
+import os
+import struct
+import urllib.parse
+
+import pytest
+from selenium.webdriver.common.by import By
+
+from server import codec
+from server.tabs import TAB_KEYS
+from test_page import FOUR, by_id, open_card, open_link, wait_until
+
+AXE_JS = None
+
+
+def _axe_source() -> str:
+    global AXE_JS
+    if AXE_JS is None:
+        import axe_selenium_python
+
+        path = os.path.join(os.path.dirname(axe_selenium_python.__file__), "node_modules", "axe-core", "axe.min.js")
+        with open(path, encoding="utf-8") as f:
+            AXE_JS = f.read()
+    return AXE_JS
+
+
+def axe_violations(driver) -> list[dict]:
+    """axe-core's WCAG 2 A and AA violations of the page as it is, serious and critical ones."""
+    driver.execute_script(_axe_source())
+    found = driver.execute_async_script(
+        "const done = arguments[arguments.length - 1];"
+        "axe.run(document, {runOnly: {type: 'tag', values: ['wcag2a', 'wcag2aa']}})"
+        ".then(r => done(r.violations), e => done([{id: 'axe-error', impact: 'critical', help: String(e), nodes: []}]));")
+    return [{"id": v["id"], "impact": v["impact"], "help": v["help"], "where": [n["target"] for n in v["nodes"]][:5]}
+            for v in found if v["impact"] in ("serious", "critical")]
+
+
+def wait_for_figures(dash_duo):
+    wait_until(dash_duo, lambda d: d.find_elements(By.CSS_SELECTOR, "#fd-panel .js-plotly-plot .main-svg"), timeout=20)
+
+
+@pytest.mark.parametrize("width, height, screens", [(1280, 800, 1.0), (1024, 768, 1.5)])
+def test_first_figure_starts_on_the_first_screens(dash_duo, app_factory, width, height, screens):
+    open_link(dash_duo, app_factory(), FOUR.replace("tab=table", "tab=distances"))
+    dash_duo.driver.set_window_size(width, height)
+    wait_for_figures(dash_duo)
+    measure = ("var gd = document.querySelector('#fd-panel .js-plotly-plot'), root = document.documentElement;"
+               " return [gd.getBoundingClientRect().top + window.scrollY, window.innerHeight,"
+               " root.scrollWidth, root.clientWidth];")
+    # the page settles as the chips, the view bar and the figures arrive: wait for it, then check
+    wait_until(dash_duo, lambda d: d.execute_script(measure)[0] < screens * d.execute_script(measure)[1]
+               and d.execute_script(measure)[2] <= d.execute_script(measure)[3])
+    top, inner, scroll_width, width = dash_duo.driver.execute_script(measure)
+    assert top < screens * inner, (top, inner)
+    assert scroll_width <= width  # nothing is wider than the window (no sideways scrolling)
+    assert dash_duo.get_logs() == []
+
+
+def test_view_bar_units_go_into_the_link_and_onto_the_axis(dash_duo, app_factory):
+    open_link(dash_duo, app_factory(), "m1.label=Alpha&m2.label=Beta&m2.w0=-0.9&tab=distances&dist=dl")
+    wait_for_figures(dash_duo)
+    dash_duo.select_dcc_dropdown(by_id(dash_duo, {"type": "fd-view", "key": "du"}), "Gpc")
+    wait_until(dash_duo, lambda d: "du=gpc" in d.current_url)
+    wait_until(dash_duo, lambda d: any("D_L [Gpc]" in e.text for e in d.find_elements(By.CSS_SELECTOR, ".ytitle")))
+    dash_duo.select_dcc_dropdown(by_id(dash_duo, {"type": "fd-view", "key": "xs"}), "log")
+    wait_until(dash_duo, lambda d: "xs=log" in d.current_url)
+    # Back restores the unit in the link and in the dropdown
+    dash_duo.driver.back()
+    wait_until(dash_duo, lambda d: "xs=" not in d.current_url and "du=gpc" in d.current_url)
+    dash_duo.driver.back()
+    wait_until(dash_duo, lambda d: "du=" not in d.current_url)
+    wait_until(dash_duo, lambda d: "Mpc" in by_id(dash_duo, {"type": "fd-view", "key": "du"}).text)
+    wait_until(dash_duo, lambda d: any("D_L [Mpc]" in e.text for e in d.find_elements(By.CSS_SELECTOR, ".ytitle")))
+    assert dash_duo.get_logs() == []
+
+
+def _png_size(data_url: str) -> tuple[int, int]:
+    head, _, body = data_url.partition(",")
+    assert head == "data:image/png;base64", head
+    raw = base64.b64decode(body)
+    assert raw[:8] == b"\x89PNG\r\n\x1a\n" and raw[12:16] == b"IHDR"  # PNG signature, then the IHDR chunk
+    return struct.unpack(">II", raw[16:24])
+
+
+def _export(dash_duo, kind: str) -> dict:
+    """Click `kind`'s export button under the first figure; the file the page would save."""
+    dash_duo.driver.execute_script(
+        "window.fdSaved = null; window.fdExport.save = function (url, name) { window.fdSaved = {url: url, name: name}; };")
+    dash_duo.driver.find_element(By.CSS_SELECTOR, f"#fd-panel .fd-figure [data-fd-export='{kind}']").click()
+    wait_until(dash_duo, lambda d: d.execute_script("return window.fdSaved"), timeout=20)
+    return dash_duo.driver.execute_script("return window.fdSaved")
+
+
+def test_exports_are_svg_and_png_at_the_asked_size_and_nothing_goes_to_a_cloud(dash_duo, app_factory):
+    open_link(dash_duo, app_factory(), "m1.label=Alpha&m2.label=Beta&m2.w0=-0.9&tab=time")
+    wait_for_figures(dash_duo)
+    svg = _export(dash_duo, "svg")
+    assert svg["name"].endswith(".svg") and svg["url"].startswith("data:image/svg+xml")
+    assert "<svg" in urllib.parse.unquote(svg["url"])
+    for kind, scale in (("png2", 2), ("png3", 3)):
+        saved = _export(dash_duo, kind)
+        width, height = dash_duo.driver.execute_script(  # the figure's size on screen as it was drawn
+            "var gd = document.querySelector('#fd-panel .js-plotly-plot');"
+            " return [gd._fullLayout.width, gd._fullLayout.height];")
+        assert saved["name"].endswith(f"-{kind}.png")
+        assert _png_size(saved["url"]) == (width * scale, height * scale)
+    slides = _export(dash_duo, "slides")
+    assert slides["name"].endswith("-slides.png") and _png_size(slides["url"]) == (3200, 1800)
+    # the toolbar: the camera saves SVG, and no figure offers a cloud, editor or link button
+    configs = dash_duo.driver.execute_script(
+        "return Array.from(document.querySelectorAll('.js-plotly-plot')).map(gd => [gd._context.showSendToCloud,"
+        " gd._context.showEditInChartStudio, gd._context.showLink, gd._context.plotlyServerURL,"
+        " gd._context.toImageButtonOptions.format]);")
+    # (plotly.js 3 has dropped the editor and link options altogether: they read as unset)
+    assert configs and all(c[0] is False and not c[1] and not c[2] and c[3:] == ["", "svg"] for c in configs), configs
+    titles = [e.get_attribute("data-title") for e in dash_duo.find_elements(".modebar-btn")]
+    assert not any(t and ("Cloud" in t or "Chart Studio" in t) for t in titles), titles
+    assert dash_duo.get_logs() == []
+
+
+def test_no_serious_accessibility_violation_on_any_tab(dash_duo, app_factory):
+    open_link(dash_duo, app_factory(), FOUR.replace("tab=table", "tab=budget"))
+    for key in TAB_KEYS:
+        dash_duo.driver.get(f"{dash_duo.server_url}/?{codec.encode(codec.decode(FOUR.replace('tab=table', 'tab=' + key)))}")
+        wait_until(dash_duo, lambda d: d.find_elements(By.CSS_SELECTOR, "#fd-panel > *"), timeout=20)
+        dash_duo.wait_for_element(".fd-chip .fd-chip-label")
+        wait_until(dash_duo, lambda d: not d.find_elements(By.CSS_SELECTOR, "[data-dash-is-loading]"), timeout=20)
+        assert axe_violations(dash_duo.driver) == [], key
+    # a card open shows its inputs: each has its name too
+    open_card(dash_duo, 2)
+    assert axe_violations(dash_duo.driver) == []
+    assert dash_duo.get_logs() == []
