@@ -120,7 +120,9 @@ class Growth:
         rho_cb = cosmo._derived["omega_cb"] * math.exp(-3.0 * s[0])
         other = float(budget_total(comp)[0]) - rho_cb  # ρ_cb / y: radiation, and the rest
         # D = 1 + 3y/2 normalised to 1, so dD/d ln a = (3y/2) / (1 + 3y/2)
-        start = np.array([1.0, 1.0 / (1.0 + other / (1.5 * rho_cb))])
+        # without clustering matter there is no growing mode: NaN throughout
+        start = (np.array([1.0, 1.0 / (1.0 + other / (1.5 * rho_cb))]) if rho_cb > 0.0
+                 else np.array([np.nan, np.nan]))
         states = np.empty((s.size, 2))
         states[0] = start
         if n:
@@ -165,7 +167,8 @@ def linear_growth(cosmo, z):
     growth_factor : ndarray
         D(z) / D(0), dimensionless (1 today).
     growth_rate : ndarray
-        f = d ln D / d ln a, dimensionless. Both NaN beyond a future turnaround.
+        f = d ln D / d ln a, dimensionless. Both NaN beyond a future turnaround, and
+        everywhere in a model without cold matter (Ω_cb = 0: no growing mode).
 
     Notes
     -----

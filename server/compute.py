@@ -137,7 +137,7 @@ def _resolved_parameters(cosmo: model.Cosmology) -> dict:
     return {
         "h0": cosmo.h0, "omega_m": cosmo.omega_m, "omega_b": baryons, "omega_k": cosmo.omega_k,
         "omega_de": cosmo.omega_de, "w0": cosmo.w0, "wa": cosmo.wa, "t_cmb": cosmo.t_cmb,
-        "n_eff": cosmo.n_eff, "m_nu": list(cosmo.m_nu), "omega_r": cosmo.omega_r,
+        "n_eff": cosmo.n_eff, "m_nu": list(cosmo.m_nu), "sigma8": cosmo.sigma8, "omega_r": cosmo.omega_r,
         "omega_gamma": cosmo.omega_gamma, "omega_nu": cosmo.omega_nu,
         "omega_nu_massless": cosmo.omega_nu_massless, "omega_cold_dark_matter": cosmo.omega_cold_dark_matter,
         "omega_cb": cosmo.omega_cb, "hubble_distance": cosmo.hubble_distance,

@@ -47,7 +47,7 @@ REQUIRED_DEFAULTS = {"h0": 67.36, "omega_m": 0.3153}
 MODEL_KEYS = (
     ("label", "label"), ("h0", "h0"), ("om", "omega_m"), ("ob", "omega_b"), ("ok", "omega_k"),
     ("ode", "omega_de"), ("w0", "w0"), ("wa", "wa"), ("tcmb", "t_cmb"), ("neff", "n_eff"),
-    ("mnu", "m_nu"),
+    ("mnu", "m_nu"), ("s8", "sigma8"),
 )
 FIELD_OF = dict(MODEL_KEYS)
 
