@@ -198,6 +198,15 @@ def _epoch_scale_factors(epochs: dict) -> dict:
     return out
 
 
+def _growth_index(cosmo: model.Cosmology, z: np.ndarray, rate: np.ndarray) -> np.ndarray:
+    """γ(z) = ln f / ln Ω_cb(z), Ω_cb(z) the clustering matter's share of the critical density
+    (Linder 2005, PRD 72, 043529, eq. 3, with the matter that clusters); NaN where
+    Ω_cb(z) is within 1e-6 of 1, where the ratio is 0/0."""
+    fractions = model.density_parameters(cosmo, z)
+    ln_omega = np.log(fractions["baryons"] + fractions["cold_dark_matter"])
+    return np.where(np.abs(ln_omega) > 1e-6, np.log(rate) / ln_omega, np.nan)
+
+
 @memoized
 def model_curves(key: str, zmax: float) -> dict:
     """Everything the panels draw for one model (rounded numpy arrays and plain dicts): the
@@ -218,6 +227,7 @@ def model_curves(key: str, zmax: float) -> dict:
         }
         # the comoving expansion rate H/(1+z) = ȧ (in units of H's), flat during coasting
         hubble_over_1pz = at["hubble_parameter"] / (1.0 + z)
+        growth_index = _growth_index(cosmo, z, at["growth_rate"])
     budget = _budget(cosmo)
     curves = _rounded_together({
         "z": z,
@@ -226,6 +236,7 @@ def model_curves(key: str, zmax: float) -> dict:
         "history": history,
         "bao": bao,
         "hubble_over_1pz": hubble_over_1pz,
+        "growth_index": growth_index,
         "a": budget["a"],
         "omega": budget["omega"],
         "rho": budget["rho"],
