@@ -63,8 +63,8 @@ DATA_HASH_LENGTH = 24
 _DATA_HASH = re.compile(f"[0-9a-f]{{{DATA_HASH_LENGTH}}}")
 R_D_CHOICES = ("model", "free")
 # Link spelling -> model.FIT_PARAMETERS name of the parameters a fit can free (``fit`` key).
-FIT_KEYS = {"h0": "h0", "om": "omega_m", "ok": "omega_k", "w0": "w0", "wa": "wa", "rd": "r_d",
-            "off": "offset"}
+FIT_KEYS = {"h0": "h0", "om": "omega_m", "ok": "omega_k", "w0": "w0", "wa": "wa", "s8": "sigma8",
+            "rd": "r_d", "off": "offset"}
 
 _NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)  # no other scripts' digits
 
