@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import contextlib
+import contextvars
 import dataclasses
 import math
 import warnings
@@ -104,6 +106,22 @@ def _radiation(h0, t_cmb, n_eff):
     """Ω_γ and Ω of one neutrino species if massless (N_eff/3 of the three), today."""
     omega_gamma = const.photon_density(t_cmb) / const.critical_density(h0)
     return omega_gamma, n_eff / 3.0 * const.NEUTRINO_PER_PHOTON * omega_gamma
+
+
+# False inside `without_tables()`: construction then skips integrating the background (and its
+# big-bang check), for callers that only need the budget, like the fits' growth of many sets.
+_BUILD_TABLES = contextvars.ContextVar("build_tables", default=True)
+
+
+@contextlib.contextmanager
+def without_tables():
+    """Models built in this block are validated but not integrated (no big-bang check, no
+    tables cached): for code that needs only the energy budget of many throwaway models."""
+    token = _BUILD_TABLES.set(False)
+    try:
+        yield
+    finally:
+        _BUILD_TABLES.reset(token)
 
 
 # Earlier attribute names -> current ones (read with a DeprecationWarning; removed next release).
@@ -237,7 +255,8 @@ class Cosmology:
         })
         from ._tables import tables  # late: the tables need a built object
 
-        tables(self)  # integrates the model once (cached) and raises NoBigBangError if needed
+        if _BUILD_TABLES.get():
+            tables(self)  # integrates the model once (cached) and raises NoBigBangError if needed
 
     # -- construction -------------------------------------------------------------------
     @classmethod

@@ -352,7 +352,8 @@ def fit(key: str, digest: str, free: tuple[tuple[str, float, float], ...], r_d: 
             "p_value": g.p_value, "aic": g.aic, "bic": g.bic, "n_parameters": g.n_parameters,
             "at_bound": list(result.at_bound), "success": result.success, "message": result.message,
             "n_evaluations": result.n_evaluations, "r_d": g.r_d, "offset": g.offset,
-            "cosmology": {"h0": c.h0, "omega_m": c.omega_m, "omega_k": c.omega_k, "w0": c.w0, "wa": c.wa}}
+            "cosmology": {"h0": c.h0, "omega_m": c.omega_m, "omega_k": c.omega_k, "w0": c.w0, "wa": c.wa,
+                          "sigma8": c.sigma8}}
 
 
 @memoized

@@ -22,8 +22,8 @@ from scipy import optimize
 
 from .._acoustic import r_drag_fit
 from .._errors import ModelError
-from .._growth import linear_growth
-from .._params import PARAMETERS
+from .._growth import Growth
+from .._params import PARAMETERS, without_tables
 from ._batch import COSMOLOGICAL, DistanceBatch
 from ._kinds import growth_kinds, kinds_with
 from ._likelihood import Nuisances, goodness_of_fit, observable_parts, profile_nuisances
@@ -44,6 +44,12 @@ FIT_PARAMETERS = {
     "r_d": ("Mpc", 1.0, 1000.0),
     "offset": ("mag", -30.0, 30.0),
 }
+
+
+# Step in ln a of the fits' growth solutions: 1/16 instead of evaluate's 1/64 makes each about
+# five times cheaper (a Δχ² map solves one per node); the fourth-order error grows to about
+# 1e-6 relative (measured against the fine grid), far inside any measurement's error.
+_GROWTH_STEP = 1.0 / 16.0
 
 
 class FitError(ModelError):
@@ -70,9 +76,9 @@ class _Problem:
     def growth(self, sets, cosmological, n_sets):
         """fσ₈ of each set at the data redshifts, shape (P, N) (None without fσ₈ rows).
 
-        f D/D(0) is solved once per distinct set of cosmological parameters (a new model each:
-        ``Cosmology.replace`` and ``linear_growth``), then scaled by each set's σ₈; NaN for a
-        set the model refuses.
+        f D/D(0) is solved once per distinct set of cosmological parameters (a new model each,
+        built without its distance tables, on a coarser grid: about 0.3 ms), then scaled by each set's σ₈; NaN for
+        a set the model refuses.
         """
         if not self.needs_sigma8:
             return None
@@ -84,11 +90,13 @@ class _Problem:
         shapes = np.full((distinct.shape[0], z.size), np.nan)
         for k, values in enumerate(distinct):
             try:
-                cosmo = self.base.replace(**dict(zip(names, values.tolist()))) if names else self.base
+                with without_tables():  # the budget is all the growth needs (a set with no big
+                    # bang never reaches today on the growth grid and gives NaN)
+                    cosmo = self.base.replace(**dict(zip(names, values.tolist()))) if names else self.base
             except ModelError:
                 continue
-            d, f = linear_growth(cosmo, z)
-            shapes[k] = d * f
+            # f D/D(0) = (dD/d ln a)/D(0), on a grid 4× coarser than evaluate's (error ~1e-6)
+            shapes[k] = Growth(cosmo, step=_GROWTH_STEP, a_end=1.0).at(1.0 / (1.0 + z))[1]
         out = np.zeros((n_sets, self.data.z.size))
         sigma8 = np.broadcast_to(np.asarray(sets.get("sigma8", self.base.sigma8), dtype=float), n_sets)
         out[:, rows] = sigma8[:, None] * shapes[np.ravel(which)]

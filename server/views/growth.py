@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from layouts.specs import FigureBlock, PanelSpec
 from server.views.comparison import Comparison, data_points, strip_points
+from server.views.data import F_SIGMA8_CAVEAT
 from server.views.parts import curve_series, failures_note, measurement_note, quantity_figure, strip, z_axis
 
 __all__ = ["build", "GROWTH_NOTE"]
@@ -29,4 +30,6 @@ def build(c: Comparison) -> PanelSpec:
         f_sigma8["spec"]["strip"]["points"] = strip_points(c, "f_sigma8")
     blocks = [{"kind": "text", "text": GROWTH_NOTE}, quantity_figure(c, "growth_factor"),
               quantity_figure(c, "growth_rate"), f_sigma8, _growth_index(c)]
+    if f_sigma8["spec"]["points"]:
+        blocks.insert(blocks.index(f_sigma8), {"kind": "text", "text": F_SIGMA8_CAVEAT, "tone": "note"})
     return {"blocks": blocks + measurement_note(c) + failures_note(c)}
