@@ -10,34 +10,15 @@ import numpy as np
 
 from . import _constants as const
 from . import _hermite as hermite
-from ._errors import ParameterError
 from ._future import future
 from ._growth import growth
 from ._quantities import QUANTITIES
+from ._redshifts import Z_MAX, Z_MIN, as_redshifts
 from ._tables import U_MIN, tables
 
 __all__ = ["evaluate", "QUANTITIES", "Z_MIN", "Z_MAX", "as_redshifts", "transverse"]
 
-Z_MIN = -0.99
-Z_MAX = 1.0e5
 _CHUNK = 16384
-
-
-
-def as_redshifts(z, name="z", lo=Z_MIN, hi=Z_MAX, above=False):
-    """Validate redshifts: a float array, finite, lo ≤ z ≤ hi (lo < z with ``above``),
-    else ParameterError naming ``name`` and the accepted range."""
-    low = "<" if above else "≤"
-    expected = f"{lo:g} {low} z ≤ {hi:g}" if math.isfinite(hi) else f"z {'>' if above else '≥'} {lo:g}"
-    try:
-        arr = np.asarray(z, dtype=float)
-    except (TypeError, ValueError):
-        raise ParameterError(name, z, f"numbers {expected}", "not numbers") from None
-    ok = np.isfinite(arr) & ((arr > lo) if above else (arr >= lo)) & (arr <= hi)
-    if not ok.all():
-        bad = arr[~ok].ravel()[0]
-        raise ParameterError(name, float(bad), expected, f"{float(bad)!r} is out of range")
-    return arr
 
 
 def transverse(cosmo, chi):
@@ -275,7 +256,7 @@ def _evaluate_chunk(cosmo, tab, fut, grow, z, out, future_points):
         q = out["deceleration_parameter"]
         np.divide(press, e2, out=q)
         q *= 0.5
-        d_growth, d_slope = grow.at(out["scale_factor"])
+        d_growth, d_slope = grow.at_log(-u)  # ln a = −ln(1+z)
         out["growth_factor"][:] = d_growth
         np.divide(d_slope, d_growth, out=out["growth_rate"])
         if future_points:

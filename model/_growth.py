@@ -29,7 +29,9 @@ import math
 
 import numpy as np
 
+from . import _hermite as hermite
 from ._background import budget_total, components_x
+from ._redshifts import as_redshifts
 from ._tables import per_model
 
 __all__ = ["growth", "Growth", "linear_growth", "STEP", "A_START"]
@@ -133,21 +135,38 @@ class Growth:
         self.d = states[:, 0] / norm
         self.dd = states[:, 1] / norm  # dD/d ln a
         self.ddd = b_coef * self.d - a_coef * self.dd  # the ODE gives D''
+        self._coef = None
 
     def at(self, a):
         """(D/D(today), dD/d ln a / D(today)) at scale factors `a` (NaN outside the grid)."""
-        s = np.log(np.asarray(a, dtype=float))
-        step = self.step
-        position = (s - self.s[0]) / step
-        inside = np.isfinite(position) & (position >= 0.0) & (position <= self.s.size - 1)
-        i = np.clip(np.floor(np.where(inside, position, 0.0)).astype(np.int64), 0, max(self.s.size - 2, 0))
-        t = np.where(inside, position, 0.0) - i
-        h00, h10 = (1 + 2 * t) * (1 - t) ** 2, t * (1 - t) ** 2
-        h01, h11 = t * t * (3 - 2 * t), t * t * (t - 1)
-        j = np.minimum(i + 1, self.s.size - 1)
-        d = h00 * self.d[i] + h10 * step * self.dd[i] + h01 * self.d[j] + h11 * step * self.dd[j]
-        dd = h00 * self.dd[i] + h10 * step * self.ddd[i] + h01 * self.dd[j] + h11 * step * self.ddd[j]
-        return np.where(inside, d, np.nan), np.where(inside, dd, np.nan)
+        return self.at_log(np.log(np.asarray(a, dtype=float)))
+
+    def at_log(self, s):
+        """As :meth:`at`, at s = ln a: cubic Hermite pieces (``model._hermite``) by Horner."""
+        if self._coef is None:  # the pieces of D and of D' (slopes D' and D''), made once
+            self._coef = (hermite.coefficients(self.d, self.dd, self.step),
+                          hermite.coefficients(self.dd, self.ddd, self.step))
+        s = np.asarray(s, dtype=float)
+        shape = s.shape
+        position = np.subtract(s.reshape(-1), self.s[0])
+        position *= 1.0 / self.step
+        last = self.s.size - 1
+        with np.errstate(invalid="ignore"):
+            outside = ~((position >= 0.0) & (position <= last))
+        if outside.any():
+            position[outside] = 0.0
+        i = np.minimum(position.astype(np.int64), max(last - 1, 0))
+        t = position
+        t -= i
+        if last < 1:
+            i[:], t[:] = 0, 0.0
+            d, dd = np.full(position.shape, float(self.d[0])), np.full(position.shape, float(self.dd[0]))
+        else:
+            d, dd = hermite.evaluate(self._coef[0], i, t), hermite.evaluate(self._coef[1], i, t)
+        if outside.any():
+            d[outside] = np.nan
+            dd[outside] = np.nan
+        return d.reshape(shape), dd.reshape(shape)
 
 
 growth = per_model(Growth)
@@ -187,8 +206,6 @@ def linear_growth(cosmo, z):
     >>> [round(float(v), 9) for v in d], [round(float(v), 9) for v in f]
     ([1.0, 0.5, 0.25], [1.0, 1.0, 1.0])
     """
-    from ._distances import as_redshifts
-
     x = 1.0 + as_redshifts(z)
     d, dd = growth(cosmo).at(1.0 / x)
     with np.errstate(invalid="ignore", divide="ignore"):
