@@ -256,9 +256,11 @@ def _evaluate_chunk(cosmo, tab, fut, grow, z, out, future_points):
         q = out["deceleration_parameter"]
         np.divide(press, e2, out=q)
         q *= 0.5
-        d_growth, d_slope = grow.at_log(-u)  # ln a = −ln(1+z)
+        d_growth, d_slope = grow.at_log(-u)  # ln a = −ln(1+z); D/D(0) and (dD/d ln a)/D(0)
         out["growth_factor"][:] = d_growth
         np.divide(d_slope, d_growth, out=out["growth_rate"])
+        np.multiply(cosmo.sigma8, d_growth, out=out["sigma8_at_z"])
+        np.multiply(cosmo.sigma8, d_slope, out=out["f_sigma8"])  # f σ₈ D/D(0)
         if future_points:
             past_only = ("angular_diameter_distance", "luminosity_distance", "distance_modulus",
                          "comoving_volume", "comoving_volume_element", "angular_scale",

@@ -74,13 +74,19 @@ def _expm2(m):
 
 
 def _prefix_products(steps):
-    """P[n] = steps[n] @ ... @ steps[0] for every n (Hillis–Steele scan: log2(n) passes)."""
-    out = steps.copy()
+    """P[n] = steps[n] @ ... @ steps[0] for every n (Hillis–Steele scan: log2(n) passes), with
+    the four entries as separate arrays: elementwise products are several times faster than
+    numpy's matmul on a stack of 2 × 2 matrices."""
+    a, b, c, d = (np.ascontiguousarray(steps[:, i, j]) for i, j in ((0, 0), (0, 1), (1, 0), (1, 1)))
     shift = 1
-    while shift < len(out):
-        out[shift:] = out[shift:] @ out[:-shift]
+    while shift < a.size:
+        a1, b1, c1, d1 = a[shift:], b[shift:], c[shift:], d[shift:]
+        a0, b0, c0, d0 = a[:-shift], b[:-shift], c[:-shift], d[:-shift]
+        # every new entry from the old ones before any is written back (the views overlap)
+        new = (a1 * a0 + b1 * c0, a1 * b0 + b1 * d0, c1 * a0 + d1 * c0, c1 * b0 + d1 * d0)
+        a[shift:], b[shift:], c[shift:], d[shift:] = new
         shift *= 2
-    return out
+    return np.stack([np.stack([a, b], axis=-1), np.stack([c, d], axis=-1)], axis=-2)
 
 
 class Growth:
@@ -151,9 +157,10 @@ class Growth:
         position = np.subtract(s.reshape(-1), self.s[0])
         position *= 1.0 / self.step
         last = self.s.size - 1
-        with np.errstate(invalid="ignore"):
-            outside = ~((position >= 0.0) & (position <= last))
-        if outside.any():
+        outside = None
+        if position.size and not (position.min() >= 0.0 and position.max() <= last):  # rare: no mask
+            with np.errstate(invalid="ignore"):
+                outside = ~((position >= 0.0) & (position <= last))
             position[outside] = 0.0
         i = np.minimum(position.astype(np.int64), max(last - 1, 0))
         t = position
@@ -163,7 +170,7 @@ class Growth:
             d, dd = np.full(position.shape, float(self.d[0])), np.full(position.shape, float(self.dd[0]))
         else:
             d, dd = hermite.evaluate(self._coef[0], i, t), hermite.evaluate(self._coef[1], i, t)
-        if outside.any():
+        if outside is not None:
             d[outside] = np.nan
             dd[outside] = np.nan
         return d.reshape(shape), dd.reshape(shape)
