@@ -45,6 +45,9 @@ N_EFF_DEFAULT = 3.044
 # Cosmic baryon fraction omega_b / (omega_b + omega_c) of Planck 2018 VI (A&A 641, A6), Table 2,
 # TT,TE,EE+lowE+lensing: 0.02237 / (0.02237 + 0.1200) = 0.1571; used when omega_b is not given.
 BARYON_FRACTION_DEFAULT = 0.157
+# sigma_8, rms linear fluctuation in 8 h^-1 Mpc spheres today, dimensionless: Planck 2018 VI
+# (A&A 641, A6), Table 2, TT,TE,EE+lowE+lensing column, 0.8111 +- 0.0060.
+SIGMA8_DEFAULT = 0.8111
 
 
 def critical_density(h0):

@@ -10,33 +10,15 @@ import numpy as np
 
 from . import _constants as const
 from . import _hermite as hermite
-from ._errors import ParameterError
 from ._future import future
+from ._growth import growth
 from ._quantities import QUANTITIES
+from ._redshifts import Z_MAX, Z_MIN, as_redshifts
 from ._tables import U_MIN, tables
 
 __all__ = ["evaluate", "QUANTITIES", "Z_MIN", "Z_MAX", "as_redshifts", "transverse"]
 
-Z_MIN = -0.99
-Z_MAX = 1.0e5
 _CHUNK = 16384
-
-
-
-def as_redshifts(z, name="z", lo=Z_MIN, hi=Z_MAX, above=False):
-    """Validate redshifts: a float array, finite, lo ≤ z ≤ hi (lo < z with ``above``),
-    else ParameterError naming ``name`` and the accepted range."""
-    low = "<" if above else "≤"
-    expected = f"{lo:g} {low} z ≤ {hi:g}" if math.isfinite(hi) else f"z {'>' if above else '≥'} {lo:g}"
-    try:
-        arr = np.asarray(z, dtype=float)
-    except (TypeError, ValueError):
-        raise ParameterError(name, z, f"numbers {expected}", "not numbers") from None
-    ok = np.isfinite(arr) & ((arr > lo) if above else (arr >= lo)) & (arr <= hi)
-    if not ok.all():
-        bad = arr[~ok].ravel()[0]
-        raise ParameterError(name, float(bad), expected, f"{float(bad)!r} is out of range")
-    return arr
 
 
 def transverse(cosmo, chi):
@@ -101,7 +83,9 @@ def evaluate(cosmo, z):
         ``comoving_volume`` [Gpc³, all sky]; ``comoving_volume_element`` [Mpc³ sr⁻¹ per
         unit z]; ``angular_scale`` [proper kpc per arcsec]; ``volume_averaged_distance``
         D_V [Mpc]; ``particle_horizon``, ``event_horizon`` [comoving Mpc, inf where there
-        is none]; ``deceleration_parameter`` q.
+        is none]; ``deceleration_parameter`` q; the linear growth of cold dark matter plus
+        baryons, all dimensionless: ``growth_factor`` D(z)/D(0), ``growth_rate``
+        f = d ln D/d ln a, ``f_sigma8`` = f σ₈ D(z)/D(0) and ``sigma8_at_z`` = σ₈ D(z)/D(0).
 
     Raises
     ------
@@ -121,6 +105,12 @@ def evaluate(cosmo, z):
     scale, D_V) are NaN there. In a closed universe, everything built on D_M is NaN beyond
     the antipode (√|Ω_k| D_C/D_H > π). Redshifts beyond a future turnaround of a
     recollapsing model (a > a_max) give NaN throughout.
+
+    Growth solves D'' + (2 + d ln H/d ln a) D' − (3/2) Ω_cb(a) D = 0 in ln a (Linder 2005,
+    PRD 72, 043529, eq. 1) from the growing mode of matter and radiation, D ∝ 1 + 3y/2 with
+    y = ρ_cb/ρ_rest (Mészáros 1974, A&A 37, 225; D ∝ a without radiation), once per model on
+    the first call (``model._growth``); massive neutrinos enter H but do not cluster. It is
+    defined in the future too, NaN beyond a turnaround.
 
     The integrals are computed once per model on a grid in ln(1+z), refined where the
     integrands change fast, and interpolated (see ``model._tables``); relative accuracy is
@@ -146,13 +136,14 @@ def evaluate(cosmo, z):
     flat = z.ravel()
     tab = tables(cosmo)
     fut = future(cosmo)
+    grow = growth(cosmo)  # solved on the first call for this model, then cached
     future_points = bool(flat.size) and bool(flat.min() < 0.0)
     # NaN until computed: a registered quantity that nothing fills can never return
     # uninitialised memory (tests/model check that every registered key is computed).
     out = {key: np.full(flat.size, np.nan) for key, q in QUANTITIES.items() if q.derive is None}
     for start in range(0, flat.size, _CHUNK):
         sl = slice(start, start + _CHUNK)
-        _evaluate_chunk(cosmo, tab, fut, flat[sl], {k: v[sl] for k, v in out.items()},
+        _evaluate_chunk(cosmo, tab, fut, grow, flat[sl], {k: v[sl] for k, v in out.items()},
                         future_points)
     for key, q in QUANTITIES.items():
         if q.derive is not None:
@@ -168,7 +159,7 @@ def evaluate(cosmo, z):
 _Z_FROM_TOP = 10.0
 
 
-def _evaluate_chunk(cosmo, tab, fut, z, out, future_points):
+def _evaluate_chunk(cosmo, tab, fut, grow, z, out, future_points):
     d = cosmo._derived
     dh = cosmo.hubble_distance
     th = cosmo.hubble_time
@@ -265,6 +256,11 @@ def _evaluate_chunk(cosmo, tab, fut, z, out, future_points):
         q = out["deceleration_parameter"]
         np.divide(press, e2, out=q)
         q *= 0.5
+        d_growth, d_slope = grow.at_log(-u)  # ln a = −ln(1+z); D/D(0) and (dD/d ln a)/D(0)
+        out["growth_factor"][:] = d_growth
+        np.divide(d_slope, d_growth, out=out["growth_rate"])
+        np.multiply(cosmo.sigma8, d_growth, out=out["sigma8_at_z"])
+        np.multiply(cosmo.sigma8, d_slope, out=out["f_sigma8"])  # f σ₈ D/D(0)
         if future_points:
             past_only = ("angular_diameter_distance", "luminosity_distance", "distance_modulus",
                          "comoving_volume", "comoving_volume_element", "angular_scale",

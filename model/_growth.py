@@ -29,7 +29,9 @@ import math
 
 import numpy as np
 
+from . import _hermite as hermite
 from ._background import budget_total, components_x
+from ._redshifts import as_redshifts
 from ._tables import per_model
 
 __all__ = ["growth", "Growth", "linear_growth", "STEP", "A_START"]
@@ -37,8 +39,6 @@ __all__ = ["growth", "Growth", "linear_growth", "STEP", "A_START"]
 STEP = 1.0 / 64.0  # in ln a
 A_START = 1e-6
 A_END = 100.0  # the model's future range: z ≥ -0.99
-_K_START = math.floor(math.log(A_START) / STEP)
-_K_END = math.ceil(math.log(A_END) / STEP)
 _GAUSS = 0.5 * np.array([-1.0, 1.0]) / math.sqrt(3.0)  # two Gauss–Legendre points on [-1/2, 1/2]
 
 
@@ -74,24 +74,32 @@ def _expm2(m):
 
 
 def _prefix_products(steps):
-    """P[n] = steps[n] @ ... @ steps[0] for every n (Hillis–Steele scan: log2(n) passes)."""
-    out = steps.copy()
+    """P[n] = steps[n] @ ... @ steps[0] for every n (Hillis–Steele scan: log2(n) passes), with
+    the four entries as separate arrays: elementwise products are several times faster than
+    numpy's matmul on a stack of 2 × 2 matrices."""
+    a, b, c, d = (np.ascontiguousarray(steps[:, i, j]) for i, j in ((0, 0), (0, 1), (1, 0), (1, 1)))
     shift = 1
-    while shift < len(out):
-        out[shift:] = out[shift:] @ out[:-shift]
+    while shift < a.size:
+        a1, b1, c1, d1 = a[shift:], b[shift:], c[shift:], d[shift:]
+        a0, b0, c0, d0 = a[:-shift], b[:-shift], c[:-shift], d[:-shift]
+        # every new entry from the old ones before any is written back (the views overlap)
+        new = (a1 * a0 + b1 * c0, a1 * b0 + b1 * d0, c1 * a0 + d1 * c0, c1 * b0 + d1 * d0)
+        a[shift:], b[shift:], c[shift:], d[shift:] = new
         shift *= 2
-    return out
+    return np.stack([np.stack([a, b], axis=-1), np.stack([c, d], axis=-1)], axis=-2)
 
 
 class Growth:
     """The growth solution of one cosmology on the ln a grid (see the module docstring)."""
 
-    def __init__(self, cosmo):
-        k = np.arange(_K_START, _K_END + 1)
-        nodes = k * STEP
+    def __init__(self, cosmo, step=STEP, a_end=A_END):
+        # a coarser step or an earlier end (the fits: 1/16 up to today) trades accuracy for speed
+        self.step = step
+        k = np.arange(math.floor(math.log(A_START) / step), math.ceil(math.log(a_end) / step) + 1)
+        nodes = k * step
         mid = 0.5 * (nodes[:-1] + nodes[1:])
         # the budget at the nodes and at both Gauss points of every step, in one pass
-        every = np.concatenate([nodes, mid + STEP * _GAUSS[0], mid + STEP * _GAUSS[1]])
+        every = np.concatenate([nodes, mid + step * _GAUSS[0], mid + step * _GAUSS[1]])
         a_all, b_all = _coefficients(cosmo, every)
         size = nodes.size
         a_coef, b_coef = a_all[:size], b_all[:size]
@@ -113,14 +121,16 @@ class Growth:
 
         m1, m2 = system(a1, b1), system(a2, b2)
         commutator = m2 @ m1 - m1 @ m2
-        omega = 0.5 * STEP * (m1 + m2) + (math.sqrt(3.0) / 12.0) * STEP * STEP * commutator
+        omega = 0.5 * step * (m1 + m2) + (math.sqrt(3.0) / 12.0) * step * step * commutator
         propagators = _expm2(omega) if n else np.zeros((0, 2, 2))
         # growing mode of clustering matter plus smooth radiation (Mészáros 1974)
         comp = components_x(cosmo, np.exp(-s[:1]))
         rho_cb = cosmo._derived["omega_cb"] * math.exp(-3.0 * s[0])
         other = float(budget_total(comp)[0]) - rho_cb  # ρ_cb / y: radiation, and the rest
         # D = 1 + 3y/2 normalised to 1, so dD/d ln a = (3y/2) / (1 + 3y/2)
-        start = np.array([1.0, 1.0 / (1.0 + other / (1.5 * rho_cb))])
+        # without clustering matter there is no growing mode: NaN throughout
+        start = (np.array([1.0, 1.0 / (1.0 + other / (1.5 * rho_cb))]) if rho_cb > 0.0
+                 else np.array([np.nan, np.nan]))
         states = np.empty((s.size, 2))
         states[0] = start
         if n:
@@ -131,20 +141,39 @@ class Growth:
         self.d = states[:, 0] / norm
         self.dd = states[:, 1] / norm  # dD/d ln a
         self.ddd = b_coef * self.d - a_coef * self.dd  # the ODE gives D''
+        self._coef = None
 
     def at(self, a):
         """(D/D(today), dD/d ln a / D(today)) at scale factors `a` (NaN outside the grid)."""
-        s = np.log(np.asarray(a, dtype=float))
-        position = (s - self.s[0]) / STEP
-        inside = np.isfinite(position) & (position >= 0.0) & (position <= self.s.size - 1)
-        i = np.clip(np.floor(np.where(inside, position, 0.0)).astype(np.int64), 0, max(self.s.size - 2, 0))
-        t = np.where(inside, position, 0.0) - i
-        h00, h10 = (1 + 2 * t) * (1 - t) ** 2, t * (1 - t) ** 2
-        h01, h11 = t * t * (3 - 2 * t), t * t * (t - 1)
-        j = np.minimum(i + 1, self.s.size - 1)
-        d = h00 * self.d[i] + h10 * STEP * self.dd[i] + h01 * self.d[j] + h11 * STEP * self.dd[j]
-        dd = h00 * self.dd[i] + h10 * STEP * self.ddd[i] + h01 * self.dd[j] + h11 * STEP * self.ddd[j]
-        return np.where(inside, d, np.nan), np.where(inside, dd, np.nan)
+        return self.at_log(np.log(np.asarray(a, dtype=float)))
+
+    def at_log(self, s):
+        """As :meth:`at`, at s = ln a: cubic Hermite pieces (``model._hermite``) by Horner."""
+        if self._coef is None:  # the pieces of D and of D' (slopes D' and D''), made once
+            self._coef = (hermite.coefficients(self.d, self.dd, self.step),
+                          hermite.coefficients(self.dd, self.ddd, self.step))
+        s = np.asarray(s, dtype=float)
+        shape = s.shape
+        position = np.subtract(s.reshape(-1), self.s[0])
+        position *= 1.0 / self.step
+        last = self.s.size - 1
+        outside = None
+        if position.size and not (position.min() >= 0.0 and position.max() <= last):  # rare: no mask
+            with np.errstate(invalid="ignore"):
+                outside = ~((position >= 0.0) & (position <= last))
+            position[outside] = 0.0
+        i = np.minimum(position.astype(np.int64), max(last - 1, 0))
+        t = position
+        t -= i
+        if last < 1:
+            i[:], t[:] = 0, 0.0
+            d, dd = np.full(position.shape, float(self.d[0])), np.full(position.shape, float(self.dd[0]))
+        else:
+            d, dd = hermite.evaluate(self._coef[0], i, t), hermite.evaluate(self._coef[1], i, t)
+        if outside is not None:
+            d[outside] = np.nan
+            dd[outside] = np.nan
+        return d.reshape(shape), dd.reshape(shape)
 
 
 growth = per_model(Growth)
@@ -165,7 +194,8 @@ def linear_growth(cosmo, z):
     growth_factor : ndarray
         D(z) / D(0), dimensionless (1 today).
     growth_rate : ndarray
-        f = d ln D / d ln a, dimensionless. Both NaN beyond a future turnaround.
+        f = d ln D / d ln a, dimensionless. Both NaN beyond a future turnaround, and
+        everywhere in a model without cold matter (Ω_cb = 0: no growing mode).
 
     Notes
     -----
@@ -183,8 +213,6 @@ def linear_growth(cosmo, z):
     >>> [round(float(v), 9) for v in d], [round(float(v), 9) for v in f]
     ([1.0, 0.5, 0.25], [1.0, 1.0, 1.0])
     """
-    from ._distances import as_redshifts
-
     x = 1.0 + as_redshifts(z)
     d, dd = growth(cosmo).at(1.0 / x)
     with np.errstate(invalid="ignore", divide="ignore"):

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import contextlib
+import contextvars
 import dataclasses
 import math
 import warnings
@@ -59,6 +61,8 @@ PARAMETERS = (
                   "effective number of neutrino species"),
     ParameterSpec("m_nu", "m_ν", "eV", 0.0, 10.0, (0.06,),
                   "neutrino masses, up to three (missing ones are massless)"),
+    ParameterSpec("sigma8", "σ₈", "", 0.0, 3.0, const.SIGMA8_DEFAULT,
+                  "rms linear fluctuation in spheres of 8 h⁻¹ Mpc today", exclusive_minimum=True),
 )
 _SPEC = {p.name: p for p in PARAMETERS}
 
@@ -104,6 +108,22 @@ def _radiation(h0, t_cmb, n_eff):
     return omega_gamma, n_eff / 3.0 * const.NEUTRINO_PER_PHOTON * omega_gamma
 
 
+# False inside `without_tables()`: construction then skips integrating the background (and its
+# big-bang check), for callers that only need the budget, like the fits' growth of many sets.
+_BUILD_TABLES = contextvars.ContextVar("build_tables", default=True)
+
+
+@contextlib.contextmanager
+def without_tables():
+    """Models built in this block are validated but not integrated (no big-bang check, no
+    tables cached): for code that needs only the energy budget of many throwaway models."""
+    token = _BUILD_TABLES.set(False)
+    try:
+        yield
+    finally:
+        _BUILD_TABLES.reset(token)
+
+
 # Earlier attribute names -> current ones (read with a DeprecationWarning; removed next release).
 _RENAMED = {"omega_cdm": "omega_cold_dark_matter"}
 
@@ -134,6 +154,10 @@ class Cosmology:
         T_CMB = 0; with masses given it is refused (ParameterError naming ``n_eff``).
     m_nu : sequence of float, optional
         Neutrino masses in eV, 0 to 3 entries; missing entries and zeros are massless.
+    sigma8 : float, optional
+        σ₈, the rms linear density fluctuation in spheres of 8 h⁻¹ Mpc today (dimensionless,
+        ``0 < sigma8 <= 3``); it only scales the growth quantities ``f_sigma8`` and
+        ``sigma8_at_z``. Default 0.8111 (Planck 2018 VI, Table 2, TT,TE,EE+lowE+lensing).
     label : str, optional
         A name for display; it does not take part in the physics.
 
@@ -165,13 +189,14 @@ class Cosmology:
     t_cmb: float = const.T_CMB_DEFAULT
     n_eff: float = const.N_EFF_DEFAULT
     m_nu: tuple = (0.06,)
+    sigma8: float = const.SIGMA8_DEFAULT
     label: str = ""
 
     _derived: dict = field(init=False, repr=False, compare=False, hash=False)
 
     def __post_init__(self):
         set_ = object.__setattr__
-        for name in ("h0", "omega_m", "omega_k", "w0", "wa", "t_cmb", "n_eff"):
+        for name in ("h0", "omega_m", "omega_k", "w0", "wa", "t_cmb", "n_eff", "sigma8"):
             set_(self, name, _real(name, getattr(self, name)))
         set_(self, "m_nu", _masses(self.m_nu))
         if not isinstance(self.label, str):
@@ -230,7 +255,8 @@ class Cosmology:
         })
         from ._tables import tables  # late: the tables need a built object
 
-        tables(self)  # integrates the model once (cached) and raises NoBigBangError if needed
+        if _BUILD_TABLES.get():
+            tables(self)  # integrates the model once (cached) and raises NoBigBangError if needed
 
     # -- construction -------------------------------------------------------------------
     @classmethod
@@ -282,6 +308,12 @@ class Cosmology:
     @property
     def key(self):
         """The physical content as a hashable tuple (label excluded; zero masses dropped)."""
+        return self.background_key + (self.sigma8,)
+
+    @property
+    def background_key(self):
+        """The inputs the expansion history depends on (``key`` without σ₈, which only scales
+        the growth amplitude): what the per-model tables are cached by."""
         return (self.h0, self.omega_m, self.omega_b, self.omega_k, self.w0, self.wa,
                 self.t_cmb, self.n_eff, tuple(sorted(self._derived["masses"])))
 

@@ -40,6 +40,7 @@ THEMES = {
     "times": "Times",
     "volumes": "Volumes",
     "scales": "Angular scales",
+    "growth": "Growth of structure",
 }
 
 
@@ -145,6 +146,12 @@ QUANTITIES: dict[str, Quantity] = {q.key: q for q in (
              slope=lambda c, v, x: -_d_chi(c, v, x)),
     Quantity("event_horizon", "Mpc", "χ_event", "comoving event horizon", "distances"),
     Quantity("deceleration_parameter", "", "q", "deceleration parameter q", "expansion"),
+    # linear growth of CDM + baryons (model._growth; massive neutrinos smooth), all from the
+    # kernel: fσ₈ = σ₈ f D/D(0) = σ₈ (dD/d ln a)/D(0) needs no product of the other two
+    Quantity("growth_factor", "", "D/D₀", "linear growth factor D(z)/D(0)", "growth"),
+    Quantity("growth_rate", "", "f", "growth rate f = d ln D / d ln a", "growth"),
+    Quantity("f_sigma8", "", "fσ₈", "growth rate times σ₈(z), f σ₈ D(z)/D(0)", "growth"),
+    Quantity("sigma8_at_z", "", "σ₈(z)", "σ₈(z) = σ₈ D(z)/D(0)", "growth"),
 )}
 
 

@@ -296,7 +296,8 @@ class Tables:
 
 
 def per_model(build, size=64):
-    """Cache ``build(cosmo)`` by the model's physics (``cosmo.key``; the label does not count).
+    """Cache ``build(cosmo)`` by the model's expansion history (``cosmo.background_key``: the
+    label and σ₈, which only scales the growth amplitude, do not count).
 
     Safe under threads (a threaded web server calls it from several at once): the look-ups and
     updates of the order hold a lock; two threads that miss together both build, and one result
@@ -307,7 +308,7 @@ def per_model(build, size=64):
 
     @functools.wraps(build)
     def cached(cosmo):
-        key = cosmo.key
+        key = cosmo.background_key
         with lock:
             found = cache.get(key)
             if found is not None:

@@ -31,7 +31,8 @@ OUTPUT = ROOT / "server" / "demo" / "demo_synthetic.csv"
 SEED = 20261201
 
 #: The invented truth behind the demo data: a mildly evolving dark energy.
-SPARROWHAWK = Cosmology(h0=68.4, omega_m=0.296, w0=-0.92, wa=-0.2, label="Sparrowhawk (synthetic truth)")
+SPARROWHAWK = Cosmology(h0=68.4, omega_m=0.296, w0=-0.92, wa=-0.2, sigma8=0.79,
+                        label="Sparrowhawk (synthetic truth)")
 
 N_SUPERNOVAE = 300
 SUPERNOVA_SCATTER = 0.11  # mag, intrinsic scatter of the invented standard candles
@@ -47,6 +48,8 @@ BAO_BINS = [
     (1.45, ("dv_over_rd",), (0.022,), None),
     (2.20, ("dm_over_rd", "dh_over_rd"), (0.021, 0.019), -0.45),
 ]
+# (redshift, error) of the invented growth-rate (redshift-space distortion) bins, fσ8
+GROWTH_BINS = [(0.22, 0.045), (0.41, 0.038), (0.63, 0.034), (0.86, 0.040), (1.24, 0.058)]
 
 
 def demo_table():
@@ -70,10 +73,10 @@ def demo_table():
         "# SYNTHETIC demo data: not real measurements.",
         f"# Made by scripts/make_demo_data.py (seed {SEED}) from the invented model "
         f"'Sparrowhawk': h0 = {truth.h0} km/s/Mpc, omega_m = {truth.omega_m}, flat, "
-        f"w0 = {truth.w0}, wa = {truth.wa},",
+        f"w0 = {truth.w0}, wa = {truth.wa}, sigma8 = {truth.sigma8},",
         f"# T_CMB = {truth.t_cmb} K, N_eff = {truth.n_eff}, m_nu = {truth.m_nu[0]} eV; "
         f"r_d = {r_d:.3f} Mpc from the model. Surveys invented: Kestrel Ridge Transient Survey "
-        "(supernova-like), Lanternfish Redshift Survey (BAO-like).",
+        "(supernova-like), Lanternfish Redshift Survey (BAO-like and growth-rate fsigma8).",
         "z,kind,value,error,label,z_helio,group,correlation",
     ]
     for i in range(z.size):
@@ -93,6 +96,12 @@ def demo_table():
             corr = f"{correlation}" if correlation is not None else ""
             lines.append(f"{z_bin:.2f},{kind},{value:.4f},{error:.4f},synthetic LRS z={z_bin:.2f},,"
                          f"{group},{corr}")
+
+    # growth-rate rows, drawn last so the rows above keep their random numbers
+    z_growth = np.array([z_bin for z_bin, _ in GROWTH_BINS])
+    f_sigma8 = evaluate(truth, z_growth)["f_sigma8"]
+    for (z_bin, error), value in zip(GROWTH_BINS, f_sigma8 + rng.normal(0.0, [e for _, e in GROWTH_BINS])):
+        lines.append(f"{z_bin:.2f},f_sigma8,{value:.4f},{error:.4f},synthetic LRS RSD z={z_bin:.2f},,,")
     return "\n".join(lines) + "\n"
 
 

@@ -137,7 +137,7 @@ def _resolved_parameters(cosmo: model.Cosmology) -> dict:
     return {
         "h0": cosmo.h0, "omega_m": cosmo.omega_m, "omega_b": baryons, "omega_k": cosmo.omega_k,
         "omega_de": cosmo.omega_de, "w0": cosmo.w0, "wa": cosmo.wa, "t_cmb": cosmo.t_cmb,
-        "n_eff": cosmo.n_eff, "m_nu": list(cosmo.m_nu), "omega_r": cosmo.omega_r,
+        "n_eff": cosmo.n_eff, "m_nu": list(cosmo.m_nu), "sigma8": cosmo.sigma8, "omega_r": cosmo.omega_r,
         "omega_gamma": cosmo.omega_gamma, "omega_nu": cosmo.omega_nu,
         "omega_nu_massless": cosmo.omega_nu_massless, "omega_cold_dark_matter": cosmo.omega_cold_dark_matter,
         "omega_cb": cosmo.omega_cb, "hubble_distance": cosmo.hubble_distance,
@@ -198,6 +198,15 @@ def _epoch_scale_factors(epochs: dict) -> dict:
     return out
 
 
+def _growth_index(cosmo: model.Cosmology, z: np.ndarray, rate: np.ndarray) -> np.ndarray:
+    """γ(z) = ln f / ln Ω_cb(z), Ω_cb(z) the clustering matter's share of the critical density
+    (Linder 2005, PRD 72, 043529, eq. 3, with the matter that clusters); NaN where
+    Ω_cb(z) is within 1e-6 of 1, where the ratio is 0/0."""
+    fractions = model.density_parameters(cosmo, z)
+    ln_omega = np.log(fractions["baryons"] + fractions["cold_dark_matter"])
+    return np.where(np.abs(ln_omega) > 1e-6, np.log(rate) / ln_omega, np.nan)
+
+
 @memoized
 def model_curves(key: str, zmax: float) -> dict:
     """Everything the panels draw for one model (rounded numpy arrays and plain dicts): the
@@ -218,6 +227,7 @@ def model_curves(key: str, zmax: float) -> dict:
         }
         # the comoving expansion rate H/(1+z) = ȧ (in units of H's), flat during coasting
         hubble_over_1pz = at["hubble_parameter"] / (1.0 + z)
+        growth_index = _growth_index(cosmo, z, at["growth_rate"])
     budget = _budget(cosmo)
     curves = _rounded_together({
         "z": z,
@@ -226,6 +236,7 @@ def model_curves(key: str, zmax: float) -> dict:
         "history": history,
         "bao": bao,
         "hubble_over_1pz": hubble_over_1pz,
+        "growth_index": growth_index,
         "a": budget["a"],
         "omega": budget["omega"],
         "rho": budget["rho"],
@@ -341,7 +352,8 @@ def fit(key: str, digest: str, free: tuple[tuple[str, float, float], ...], r_d: 
             "p_value": g.p_value, "aic": g.aic, "bic": g.bic, "n_parameters": g.n_parameters,
             "at_bound": list(result.at_bound), "success": result.success, "message": result.message,
             "n_evaluations": result.n_evaluations, "r_d": g.r_d, "offset": g.offset,
-            "cosmology": {"h0": c.h0, "omega_m": c.omega_m, "omega_k": c.omega_k, "w0": c.w0, "wa": c.wa}}
+            "cosmology": {"h0": c.h0, "omega_m": c.omega_m, "omega_k": c.omega_k, "w0": c.w0, "wa": c.wa,
+                          "sigma8": c.sigma8}}
 
 
 @memoized

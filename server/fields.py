@@ -48,7 +48,7 @@ REQUIRED_DEFAULTS = {"h0": 67.36, "omega_m": 0.3153}
 MODEL_KEYS = (
     ("label", "label"), ("h0", "h0"), ("om", "omega_m"), ("ob", "omega_b"), ("ok", "omega_k"),
     ("ode", "omega_de"), ("w0", "w0"), ("wa", "wa"), ("tcmb", "t_cmb"), ("neff", "n_eff"),
-    ("mnu", "m_nu"),
+    ("mnu", "m_nu"), ("s8", "sigma8"),
 )
 FIELD_OF = dict(MODEL_KEYS)
 
@@ -70,8 +70,8 @@ DATA_HASH_LENGTH = 24
 _DATA_HASH = re.compile(f"[0-9a-f]{{{DATA_HASH_LENGTH}}}")
 R_D_CHOICES = ("model", "free")
 # Link spelling -> model.FIT_PARAMETERS name of the parameters a fit can free (``fit`` key).
-FIT_KEYS = {"h0": "h0", "om": "omega_m", "ok": "omega_k", "w0": "w0", "wa": "wa", "rd": "r_d",
-            "off": "offset"}
+FIT_KEYS = {"h0": "h0", "om": "omega_m", "ok": "omega_k", "w0": "w0", "wa": "wa", "s8": "sigma8",
+            "rd": "r_d", "off": "offset"}
 
 _NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)  # no other scripts' digits
 

@@ -70,6 +70,7 @@ class ModelState:
     t_cmb: float = _default("t_cmb")
     n_eff: float = _default("n_eff")
     m_nu: tuple[float, ...] = _default("m_nu")
+    sigma8: float = _default("sigma8")
     invalid: tuple[tuple[str, str], ...] = ()
 
     @property

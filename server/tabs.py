@@ -36,6 +36,7 @@ TABS: tuple[Tab, ...] = (
     Tab("budget", "Energy budget", "server.views.budget:build"),
     Tab("distances", "Distances", "server.views.distances:build"),
     Tab("time", "Time", "server.views.time:build"),
+    Tab("growth", "Growth", "server.views.growth:build"),
     Tab("volume", "Volume", "server.views.volume:build"),
     Tab("acoustic", "Acoustic scales", "server.views.acoustic:build"),
     Tab("table", "Table", "server.views.table:build"),

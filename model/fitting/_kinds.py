@@ -1,6 +1,8 @@
 """The measurement kinds: one registry of what a table row may hold and how it is predicted.
 
-Every kind names the :func:`model.evaluate` quantity its prediction is, and the nuisance that
+Every kind names the :func:`model.evaluate` quantity its prediction is (built from H, D_C and
+D_M by :data:`PREDICTIONS`, or one of the :data:`GROWTH_PREDICTIONS` taken from the linear
+growth of each model), and the nuisance that
 enters it linearly: none, the supernova magnitude offset M (prediction + M) or the sound
 horizon at the drag epoch (prediction / r_d, the BAO ratios). The parser, the likelihood,
 the fits and the page (titles, units) all read :data:`MEASUREMENT_KINDS`; adding a kind is
@@ -13,7 +15,7 @@ import numpy as np
 
 from .._constants import SPEED_OF_LIGHT_KM_S
 
-__all__ = ["MeasurementKind", "MEASUREMENT_KINDS", "PREDICTIONS"]
+__all__ = ["MeasurementKind", "MEASUREMENT_KINDS", "PREDICTIONS", "GROWTH_PREDICTIONS"]
 
 
 @dataclasses.dataclass(frozen=True)
@@ -32,7 +34,7 @@ class MeasurementKind:
         One line for documentation and messages.
     quantity : str
         The :func:`model.evaluate` key the prediction is made of (a key of
-        :data:`PREDICTIONS`).
+        :data:`PREDICTIONS`, or of :data:`GROWTH_PREDICTIONS`).
     nuisance : {"", "offset", "r_d"}
         "offset": the prediction is quantity + M (supernova magnitude offset, mag);
         "r_d": it is quantity / r_d (r_d the sound horizon at the drag epoch, Mpc).
@@ -57,8 +59,9 @@ class MeasurementKind:
     def __post_init__(self):
         if self.nuisance not in ("", "offset", "r_d"):
             raise ValueError(f"nuisance: expected '', 'offset' or 'r_d', got {self.nuisance!r}")
-        if self.quantity not in PREDICTIONS:
-            raise ValueError(f"quantity: expected one of {', '.join(PREDICTIONS)}, got {self.quantity!r}")
+        if self.quantity not in PREDICTIONS and self.quantity not in GROWTH_PREDICTIONS:
+            raise ValueError(f"quantity: expected one of {', '.join((*PREDICTIONS, *GROWTH_PREDICTIONS))}, "
+                             f"got {self.quantity!r}")
 
 
 def _distance_modulus(z, z_helio, hubble, comoving, transverse):
@@ -93,6 +96,11 @@ PREDICTIONS = {
     "volume_averaged_distance": _volume_averaged,
 }
 
+#: Quantities of the linear growth (``model._growth``) a kind can be compared with: fσ₈(z) =
+#: f(z) σ₈ D(z)/D(0) (the product of the growth rate and the amplitude σ₈(z); e.g. Percival &
+#: White 2009, MNRAS 393, 297, from memory), linear in σ₈.
+GROWTH_PREDICTIONS = ("f_sigma8",)
+
 _KINDS = (
     MeasurementKind("distance_modulus", "mag", "distance modulus μ",
                     "supernova distance modulus mu; absolute-magnitude offset free",
@@ -114,10 +122,18 @@ _KINDS = (
                     "volume_averaged_distance", nuisance="r_d"),
     MeasurementKind("hubble_parameter", "km/s/Mpc", "expansion rate H(z)", "expansion rate H(z)",
                     "hubble_parameter", zero_redshift=True),
+    MeasurementKind("f_sigma8", "", "growth rate fσ₈",
+                    "growth rate times the fluctuation amplitude, f σ8(z), from redshift-space distortions",
+                    "f_sigma8", zero_redshift=True),
 )
 
 #: key -> :class:`MeasurementKind`, in the order tables and the page list them.
 MEASUREMENT_KINDS = {kind.key: kind for kind in _KINDS}
+
+
+def growth_kinds():
+    """Keys of the kinds predicted from the linear growth (:data:`GROWTH_PREDICTIONS`)."""
+    return tuple(key for key, kind in MEASUREMENT_KINDS.items() if kind.quantity in GROWTH_PREDICTIONS)
 
 
 def kinds_with(nuisance):

@@ -34,7 +34,7 @@ from scipy import linalg, stats
 
 from .._acoustic import acoustic_scales
 from .._distances import evaluate
-from ._kinds import MEASUREMENT_KINDS, PREDICTIONS, kinds_with
+from ._kinds import GROWTH_PREDICTIONS, MEASUREMENT_KINDS, PREDICTIONS, kinds_with
 from ._measurements import _frozen
 
 __all__ = [
@@ -85,7 +85,7 @@ def _positive_number(x):
 # Predictions from the three background quantities every kind is built from
 
 
-def observable_parts(data, hubble, comoving, transverse):
+def observable_parts(data, hubble, comoving, transverse, growth=None):
     """Predictions of every row from H(z), D_C(z) and D_M(z), before the nuisances.
 
     Parameters
@@ -94,6 +94,9 @@ def observable_parts(data, hubble, comoving, transverse):
     hubble, comoving, transverse : ndarray, shape (P, N)
         H(z) [km/s/Mpc], line-of-sight and transverse comoving distance [Mpc]
         of P parameter sets at the N data redshifts.
+    growth : ndarray, shape (P, N) or (N,), optional
+        fσ₈(z) of the sets at the data redshifts (dimensionless; only its rows of
+        the growth kinds are read); without it those rows are predicted as NaN.
 
     Returns
     -------
@@ -108,19 +111,24 @@ def observable_parts(data, hubble, comoving, transverse):
     -----
     Each row's kind names its quantity (:data:`~model.MEASUREMENT_KINDS`), formed from
     the three distances by :data:`~model.fitting.PREDICTIONS` (Hogg 1999,
-    arXiv:astro-ph/9905116, sections 5 to 8; Eisenstein et al. 2005, ApJ 633, 560).
+    arXiv:astro-ph/9905116, sections 5 to 8; Eisenstein et al. 2005, ApJ 633, 560); the
+    growth kinds (:data:`~model.fitting.GROWTH_PREDICTIONS`) are ``growth`` itself.
     """
-    hubble, comoving, transverse = np.broadcast_arrays(
-        np.atleast_2d(hubble), np.atleast_2d(comoving), np.atleast_2d(transverse))
+    hubble, comoving, transverse, growth = np.broadcast_arrays(
+        np.atleast_2d(hubble), np.atleast_2d(comoving), np.atleast_2d(transverse),
+        np.atleast_2d(np.nan if growth is None else growth))
     base = np.zeros(hubble.shape)
     bao = np.zeros(hubble.shape)
     with np.errstate(divide="ignore", invalid="ignore"):
         for key in data.kinds_present:
             kind = MEASUREMENT_KINDS[key]
             rows = _selector(data.kind == key)
-            predicted = PREDICTIONS[kind.quantity](
-                data.z[rows], data.z_helio[rows], hubble[:, rows], comoving[:, rows],
-                transverse[:, rows])
+            if kind.quantity in GROWTH_PREDICTIONS:
+                predicted = growth[:, rows]
+            else:
+                predicted = PREDICTIONS[kind.quantity](
+                    data.z[rows], data.z_helio[rows], hubble[:, rows], comoving[:, rows],
+                    transverse[:, rows])
             (bao if kind.nuisance == "r_d" else base)[:, rows] = predicted
     return base, bao
 
@@ -404,7 +412,7 @@ def goodness_of_fit(cosmo, data, nuisances=Nuisances(), n_free=0):
     quantities = evaluate(cosmo, data.z)
     base, bao = observable_parts(
         data, quantities["hubble_parameter"], quantities["comoving_distance"],
-        quantities["transverse_comoving_distance"])
+        quantities["transverse_comoving_distance"], quantities["f_sigma8"])
     r_d, offset = _resolve(nuisances, cosmo, data)
     profiled = profile_nuisances(data, base, bao, r_d, offset)
     return _summarise(cosmo.label, data, nuisances, profiled, n_free)

@@ -112,7 +112,8 @@ def chi2_map(cosmo, data, x_name, x_values, y_name, y_values, nuisances=Nuisance
     y = _axis(y_name, y_values)
     problem = _Problem(cosmo, data, nuisances)
     for name in (x_name, y_name):
-        if name == "r_d" and not problem.needs_r_d or name == "offset" and not problem.needs_offset:
+        if (name == "r_d" and not problem.needs_r_d or name == "offset" and not problem.needs_offset
+                or name == "sigma8" and not problem.needs_sigma8):
             raise FitError(f"no measurement depends on {name}; choose another map parameter")
     grid_x, grid_y = np.meshgrid(x, y)
     xs, ys = grid_x.ravel(), grid_y.ravel()

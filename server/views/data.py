@@ -11,12 +11,16 @@ from server.views.comparison import (KIND_TITLES, SYNTHETIC_NOTE, Comparison, is
                                      measurements, num, scores)
 from server.views.parts import with_unit, failures_note
 
-__all__ = ["build"]
+__all__ = ["build", "F_SIGMA8_CAVEAT"]
 
 METHOD = ("χ² = rᵀC⁻¹r with the full covariance; the supernova offset M is marginalised analytically "
           "(Goliath et al. 2001; Conley et al. 2011), r_d is each model's own or minimised. The p-value is "
           "P(χ²_dof ≥ χ²); Δχ² is against the reference model. AIC = χ² + 2k and BIC = χ² + k ln N are "
           "shown once a fit with free parameters is in the link.")
+F_SIGMA8_CAVEAT = ("About fσ₈: a survey turns its redshifts into distances with a fiducial cosmology before it "
+                   "measures fσ₈, and the value depends on that choice (the Alcock–Paczynski effect). Comparing "
+                   "the published values with a model far from that fiducial one, without correcting for it, is "
+                   "only an approximation.")
 COVARIANCE_SOURCES = {"file": "covariance file", "pairs": "errors and correlated pairs", "diagonal": "errors only"}
 
 
@@ -62,6 +66,8 @@ def _residual_figures(c: Comparison) -> list[FigureBlock]:
             pulls.append({"name": e.name, "role": "pull", "slot": e.slot, "x": d.z[rows],
                           "y": np.asarray(r["pull"])[rows], "text": labels, "y_hover": "pull"})
         z = d.z[rows]
+        if kind == "f_sigma8":
+            blocks.append({"kind": "text", "text": F_SIGMA8_CAVEAT, "tone": "note"})
         blocks.append({"kind": "figure", "id": f"fd-fig-residual-{kind}", "spec": {
             "title": f"Residuals of {title} ({counted(rows.size, 'measurement')}): data − model, and pulls",
             "x_title": "redshift z", "x_hover": "z",

@@ -15,12 +15,12 @@ from server.views.comparison import SYNTHETIC_NOTE, is_synthetic, num
 __all__ = ["FIT_LABELS", "DEFAULT_BOUNDS", "MAP_POINTS", "FitRequestError", "data_tool_options", "store_upload",
            "parse_bounds", "fit_request", "fit_report", "map_request"]
 
-FIT_LABELS = {"h0": "H₀", "omega_m": "Ω_m", "omega_k": "Ω_k", "w0": "w₀", "wa": "w_a",
+FIT_LABELS = {"h0": "H₀", "omega_m": "Ω_m", "omega_k": "Ω_k", "w0": "w₀", "wa": "w_a", "sigma8": "σ₈",
               "r_d": "r_d (nuisance)", "offset": "supernova offset M (nuisance)"}
 # Bounds the page proposes: wide enough for any model people compare here, narrow enough for a
 # readable MAP_POINTS x MAP_POINTS map (judgement, no source). The model accepts any within FIT_PARAMETERS.
 DEFAULT_BOUNDS = {"h0": (50.0, 90.0), "omega_m": (0.05, 0.7), "omega_k": (-0.3, 0.3), "w0": (-2.0, -0.3),
-                  "wa": (-3.0, 2.0), "r_d": (120.0, 180.0), "offset": (-2.0, 2.0)}
+                  "wa": (-3.0, 2.0), "sigma8": (0.4, 1.2), "r_d": (120.0, 180.0), "offset": (-2.0, 2.0)}
 MAP_POINTS = 60  # the Δχ² map is MAP_POINTS x MAP_POINTS
 MAP_SPAN_SIGMAS = 5  # after a fit of both parameters, the map spans the best value ± this many σ
 

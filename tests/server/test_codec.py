@@ -45,6 +45,7 @@ def model_states(draw, slot):
         t_cmb=draw(number_in("t_cmb")),
         n_eff=draw(number_in("n_eff")),
         m_nu=draw(masses),
+        sigma8=draw(number_in("sigma8")),
     )
 
 

@@ -38,3 +38,11 @@ def test_fit_to_the_demo_lands_near_its_invented_truth(demo_script, demo_set):
     for name in fit.names:
         assert abs(fit.best[name] - getattr(truth, name)) < 3.0 * fit.sigma[name], name
     assert fit.goodness.p_value > 0.001
+
+
+def test_demo_growth_rows_fit_back_to_the_invented_sigma8(demo_script, demo_set):
+    truth = demo_script.SPARROWHAWK  # σ8 = 0.79, invented with the rest of the scenario
+    assert int(np.sum(demo_set.kind == "f_sigma8")) == len(demo_script.GROWTH_BINS)
+    fit = quick_fit(truth.replace(sigma8=0.9), demo_set, ["sigma8"])
+    assert abs(fit.best["sigma8"] - truth.sigma8) < 3.0 * fit.sigma["sigma8"]
+    assert 0.005 < fit.sigma["sigma8"] < 0.1

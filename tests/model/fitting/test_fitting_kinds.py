@@ -47,7 +47,7 @@ def test_the_bao_ratios_divide_the_documented_distances():
 def test_units_titles_and_quantities():
     documented = {"distance_modulus": "mag", "luminosity_distance": "Mpc", "angular_diameter_distance": "Mpc",
                   "comoving_distance": "Mpc", "dm_over_rd": "", "dh_over_rd": "", "dv_over_rd": "",
-                  "hubble_parameter": "km/s/Mpc"}
+                  "hubble_parameter": "km/s/Mpc", "f_sigma8": ""}
     assert {k: v.unit for k, v in MEASUREMENT_KINDS.items()} == documented
     for key, kind in MEASUREMENT_KINDS.items():
         assert kind.key == key and kind.title and kind.description
