@@ -18,7 +18,7 @@ GROWTH_NOTE = ("Linear growth of cold dark matter plus baryons on large scales: 
 def _growth_index(c: Comparison) -> FigureBlock:
     return {"kind": "figure", "id": "fd-fig-growth-index", "spec": {
         "title": "Growth index γ(z) = ln f / ln Ω_m(z), Ω_m(z) of the clustering matter",
-        **z_axis(c), "y_title": "growth index γ [dimensionless]", "y_hover": "γ", "unit": "",
+        **z_axis(c), "y_title": "growth index γ", "y_hover": "γ", "unit": "",
         "series": curve_series(c, lambda cv: cv["growth_index"]),
         "strip": strip(c, lambda cv: cv["growth_index"], kind="difference")}}
 

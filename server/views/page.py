@@ -27,8 +27,8 @@ def page_options() -> PageOptions:
 # the view bar's settings, which every panel follows: (key, label, {link value: text})
 VIEW_BAR = (
     ("du", "distances in", {k: unit for k, (unit, _) in fields.DISTANCE_UNITS.items()}),
-    ("xs", "redshift axis", {"auto": "auto", "lin": "linear", "log": "log"}),
-    ("ys", "value axis", {"auto": "auto", "lin": "linear", "log": "log"}),
+    ("xs", "z axis", {"auto": "auto", "lin": "linear", "log": "log"}),
+    ("ys", "y axis", {"auto": "auto", "lin": "linear", "log": "log"}),
 )
 
 
