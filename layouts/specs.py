@@ -220,6 +220,10 @@ class FitParameter(TypedDict):
 
 class DataToolOptions(TypedDict):
     format: str
+    format_link: str  # the text of the link to the format's page
+    format_url: str  # that page (the app factory sets it under the URL prefix)
+    no_data_reason: str  # beside the fit and map buttons while the link has no measurements
+    no_fit_reason: str  # beside "load the fit" before a fit
     placeholder: str
     limits: str
     demo_label: str

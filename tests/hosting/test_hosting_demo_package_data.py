@@ -38,6 +38,7 @@ def _copied_like_the_image(destination: Path) -> None:
             if path.is_dir():
                 shutil.copytree(path, destination / source, ignore=shutil.ignore_patterns("__pycache__"))
             else:
+                (destination / source).parent.mkdir(parents=True, exist_ok=True)
                 shutil.copy2(path, destination / source)
 
 
