@@ -47,10 +47,13 @@ def data_tools(options: DataToolOptions) -> html.Div:
                for p in params]
     # a collapsible block after the panel's results (open while the link has no data: the
     # render callback sets `open`); it stays in the page so the file inputs and a fit's report
-    # survive panel redraws
-    return html.Details(id=ids.data_tools, className="fd-data-details", open=True, style={"display": "none"},
-                        children=[html.Summary("data tools: load, fit, map, catalogue", className="fd-data-summary"),
-                                  html.Div(className="fd-data-tools", children=_sections(options, params, choices))])
+    # survive panel redraws. What the last load did is said above it, visible when it is closed.
+    return html.Div(id=ids.data_tools, style={"display": "none"}, children=[
+        html.Div(id=ids.data_message, className="fd-data-message", role="status"),
+        html.Details(id=ids.data_tools_details, className="fd-data-details", open=True, children=[
+            html.Summary("data tools: load, fit, map, catalogue", className="fd-data-summary"),
+            html.Div(className="fd-data-tools", children=_sections(options, params, choices))]),
+    ])
 
 
 def _sections(options: DataToolOptions, params: list, choices: list) -> list:
@@ -74,7 +77,6 @@ def _sections(options: DataToolOptions, params: list, choices: list) -> list:
                 html.Button(options["demo_label"], id=ids.data_demo, n_clicks=0, className="fd-button"),
             ]),
             html.Small(options["limits"], className="fd-range"),
-            html.Div(id=ids.data_message, className="fd-data-message", role="status"),
         ]),
         html.Section(className="fd-data-box", children=[
             html.H3("Quick fit"),

@@ -33,6 +33,7 @@ class _Ids:
     download_panel_file = "fd-download-panel-file"
     # data panel tools (always in the page, shown on the data tab)
     data_tools = "fd-data-tools"
+    data_tools_details = "fd-data-tools-details"
     format_link = "fd-format-link"
     data_upload = "fd-data-upload"
     covariance_upload = "fd-cov-upload"

@@ -24,7 +24,7 @@ from server import codec, data_store, state as states
 from server.cache import BudgetExceeded
 from server.views import data_tools
 from server.views.cards import card_status as card_status_spec, cards, chips
-from server.views.comparison import compare
+from server.views.comparison import compare, measurements
 from server.views.downloads import panel_csv, parameter_sets
 from server.views.page import page_options, panel  # page_options: read by the app factory
 
@@ -201,7 +201,7 @@ def register(app) -> None:
         Output(ids.notice_box, "style"),
         Output(ids.link_text, "value"),
         Output(ids.data_tools, "style"),
-        Output(ids.data_tools, "open"),
+        Output(ids.data_tools_details, "open"),
         Output(ids.fit_slot, "options"),
         Output(ids.fit_slot, "value"),
         Input(ids.url, "search"),
@@ -224,10 +224,10 @@ def register(app) -> None:
         box = {"display": "block"} if (dropped or state.unknown) else {"display": "none"}
         base = (href or "").split("?")[0]
         tools = {"display": "block"} if state.view.tab == "data" else {"display": "none"}
-        # the tools are open while the link has no measurements; once a set is in it, the results
+        # the tools are open while the link has no measurements it can load; once a set is in it, the results
         # come first (React only touches the element when this value changes, so a block the
         # reader opened or closed stays so while the link keeps or keeps lacking its data)
-        tools_open = state.view.data is None
+        tools_open = measurements(comparison)[0] is None
         slots = state.slots()
         return (body, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
                 tools_open, _reference_options(state),
