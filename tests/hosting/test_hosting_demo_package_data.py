@@ -61,6 +61,12 @@ def test_the_wheel_holds_the_demo_table(wheel):
         assert archive.read(MEMBER) == DEMO.read_bytes()
 
 
+def test_the_wheel_holds_the_format_description(wheel):
+    # server/docs/measurements-format.md links to docs/; the wheel must hold the text itself
+    with zipfile.ZipFile(wheel) as archive:
+        assert archive.read("server/docs/measurements-format.md") == (ROOT / "docs" / "measurements-format.md").read_bytes()
+
+
 def test_an_installed_copy_loads_the_demo_through_the_app(wheel, tmp_path):
     env_dir = tmp_path / "venv"
     venv.EnvBuilder(system_site_packages=True, with_pip=False).create(env_dir)
@@ -82,8 +88,10 @@ def test_an_installed_copy_loads_the_demo_through_the_app(wheel, tmp_path):
         "                                          data_store.DEMO_PATH.name)\n"
         "response = app.server.test_client().post('/api/v1/data', data=data_store.demo_bytes(),\n"
         "                                         content_type='text/csv')\n"
+        "page = app.server.test_client().get('/format')\n"
         "print(json.dumps({'server': server.__file__, 'model': model.__file__, 'search': search,\n"
-        "                  'message': message, 'status': response.status_code}))\n")
+        "                  'message': message, 'status': response.status_code,\n"
+        "                  'format': [page.status_code, page.get_data(as_text=True)]}))\n")
     outside = tmp_path / "elsewhere"
     outside.mkdir()
     environment = {k: v for k, v in os.environ.items() if k not in ("PYTHONPATH", "PYTHONHOME")}
@@ -95,6 +103,7 @@ def test_an_installed_copy_loads_the_demo_through_the_app(wheel, tmp_path):
     for package in ("server", "model"):
         assert Path(answer[package]).is_relative_to(target), answer[package]  # not this worktree
     assert answer["status"] == 201
+    assert answer["format"][0] == 200 and "<h1>Measurement tables</h1>" in answer["format"][1]
     rows = len(model.read_measurements(DEMO))
     assert f"Stored {rows} measurements from synthetic demo data" in answer["message"]
     assert "data=" in answer["search"] and "tab=data" in answer["search"]
