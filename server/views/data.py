@@ -128,8 +128,8 @@ def build(c: Comparison) -> PanelSpec:
                      {"label": "each model's own r_drag", "value": "model"},
                      {"label": "free (minimised for each model)", "value": "free"}]}]
     if stored is None:
-        text = problem or ("No measurements in this link yet: upload or paste a table in the data tools below, or load the "
-                           "synthetic demo data.")
+        text = problem or ("No measurements in this link yet: upload or paste a table in the data tools below, "
+                           "or load the synthetic demo data.")
         return {"controls": controls,
                 "blocks": [{"kind": "text", "text": text, "tone": "error" if problem else "note"}]}
     d = stored.measurements

@@ -37,6 +37,15 @@ def _choose_file(dash_duo, path) -> None:
     dash_duo.find_element("#fd-data-upload input[type=file]").send_keys(str(path))
 
 
+def _open_and_upload(dash_duo, app_factory, tmp_path):
+    """Two models on the data tab, then a made-up file chosen in the upload box; its path."""
+    path = tmp_path / "made-up.csv"
+    path.write_text(GOOD)
+    open_link(dash_duo, app_factory(), "m1.label=One&m1.h0=70&m2.label=Two&m2.w0=-0.9&tab=data")
+    _choose_file(dash_duo, path)
+    return path
+
+
 def test_without_data_the_tools_are_open_and_buttons_say_why_they_wait(dash_duo, app_factory):
     open_link(dash_duo, app_factory(), "m1.label=One&m1.h0=70&tab=data")
     dash_duo.wait_for_contains_text("#fd-panel", "No measurements in this link yet", timeout=10)
@@ -62,10 +71,7 @@ def test_without_data_the_tools_are_open_and_buttons_say_why_they_wait(dash_duo,
 
 
 def test_the_same_file_chosen_twice_is_loaded_twice_and_the_tools_close(dash_duo, app_factory, tmp_path):
-    path = tmp_path / "made-up.csv"
-    path.write_text(GOOD)
-    open_link(dash_duo, app_factory(), "m1.label=One&m1.h0=70&m2.label=Two&m2.w0=-0.9&tab=data")
-    _choose_file(dash_duo, path)
+    path = _open_and_upload(dash_duo, app_factory, tmp_path)
     wait_until(dash_duo, lambda d: "data=" in d.current_url)
     first = codec.decode(_query(dash_duo)).view.data
     dash_duo.wait_for_contains_text("#fd-data-message", "made-up.csv", timeout=10)
@@ -92,10 +98,7 @@ def test_the_same_file_chosen_twice_is_loaded_twice_and_the_tools_close(dash_duo
 
 
 def test_residual_controls_write_the_link_and_draw(dash_duo, app_factory, tmp_path):
-    path = tmp_path / "made-up.csv"
-    path.write_text(GOOD)
-    open_link(dash_duo, app_factory(), "m1.label=One&m1.h0=70&m2.label=Two&m2.w0=-0.9&tab=data")
-    _choose_file(dash_duo, path)
+    _open_and_upload(dash_duo, app_factory, tmp_path)
     dash_duo.wait_for_element("#fd-fig-residual-distance_modulus .scatterlayer", timeout=20)
     dash_duo.select_dcc_dropdown(by_id(dash_duo, {"type": "fd-view", "key": "res"}), "m2 Two")
     wait_until(dash_duo, lambda d: "res=2" in d.current_url)
@@ -103,7 +106,8 @@ def test_residual_controls_write_the_link_and_draw(dash_duo, app_factory, tmp_pa
     box.send_keys("0,0.3,1" + Keys.ENTER)
     wait_until(dash_duo, lambda d: "rbin=0,0.3,1" in d.current_url)
     # one model's residuals and its binned means: both drawn with that model's marker shape
-    wait_until(dash_duo, lambda d: any("Two: binned" in e.text for e in d.find_elements(By.CSS_SELECTOR, ".legendtext")))
+    wait_until(dash_duo, lambda d: any("Two: binned" in e.text
+                                       for e in d.find_elements(By.CSS_SELECTOR, ".legendtext")))
     legend = [e.text for e in dash_duo.driver.find_elements(
         By.CSS_SELECTOR, "#fd-fig-residual-distance_modulus .legendtext")]
     assert "One" not in legend and "Two" in legend and "Two: binned" in legend
