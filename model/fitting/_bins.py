@@ -55,7 +55,8 @@ def binned_residuals(z, residual, error, edges):
 
         mean = sum_j w_j r_j / sum_j w_j,    sigma_mean = 1 / sqrt(sum_j w_j)
 
-    (Bevington & Robinson 2003, eqs. 4.17 and 4.19; Taylor 1997, eqs. 7.10 and 7.12).
+    (Bevington & Robinson 2003, eqs. 4.17 and 4.19; Taylor 1997, eqs. 7.10 and 7.12; the
+    equation numbers are quoted from memory, the formulas are the standard ones).
 
     References
     ----------

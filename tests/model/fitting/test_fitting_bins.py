@@ -1,5 +1,6 @@
 """`model.binned_residuals` against the inverse-variance weighted mean written out by hand with
-numpy (Bevington & Robinson 2003, eqs. 4.17 and 4.19: mean = Σ w r / Σ w, σ = 1/√Σw, w = 1/σ²)."""
+numpy (Bevington & Robinson 2003, eqs. 4.17 and 4.19, numbers from memory: mean = Σ w r / Σ w,
+σ = 1/√Σw, w = 1/σ²)."""
 
 from __future__ import annotations
 
