@@ -20,6 +20,7 @@ RUN useradd --system --uid 10001 --create-home fdesk \
 
 WORKDIR /app
 COPY constraints.txt pyproject.toml README.md gunicorn.conf.py ./
+COPY docs/measurements-format.md ./docs/
 COPY model ./model
 COPY server ./server
 COPY layouts ./layouts

@@ -47,10 +47,24 @@ def data_tools(options: DataToolOptions) -> html.Div:
     params = options["parameters"]
     choices = [{"label": f"{p['label']}" + (f" [{p['unit']}]" if p.get("unit") else ""), "value": p["name"]}
                for p in params]
-    return html.Div(id=ids.data_tools, className="fd-data-tools", style={"display": "none"}, children=[
+    # a collapsible block after the panel's results (open while the link has no data: the
+    # render callback sets `open`); it stays in the page so the file inputs and a fit's report
+    # survive panel redraws. What the last load did is said above it, visible when it is closed.
+    return html.Div(id=ids.data_tools, style={"display": "none"}, children=[
+        html.Div(id=ids.data_message, className="fd-data-message", role="status"),
+        html.Details(id=ids.data_tools_details, className="fd-data-details", open=True, children=[
+            html.Summary("data tools: load, fit, map, catalogue", className="fd-data-summary"),
+            html.Div(className="fd-data-tools", children=_sections(options, params, choices))]),
+    ])
+
+
+def _sections(options: DataToolOptions, params: list, choices: list) -> list:
+    return [
         html.Section(className="fd-data-box", children=[
             html.H3("Measurements"),
-            html.P(options["format"], className="fd-note"),
+            html.P([options["format"] + " ", html.A(options["format_link"], href=options["format_url"],
+                                                    id=ids.format_link, target="_blank", rel="noopener")],
+                   className="fd-note"),
             html.Div(className="fd-data-row", children=[
                 dcc.Upload(id=ids.data_upload, className="fd-upload", multiple=False,
                            children=html.Div("measurement file (CSV): drop it here or click to choose")),
@@ -66,7 +80,6 @@ def data_tools(options: DataToolOptions) -> html.Div:
                 html.Button(options["demo_label"], id=ids.data_demo, n_clicks=0, className="fd-button"),
             ]),
             html.Small(options["limits"], className="fd-range"),
-            html.Div(id=ids.data_message, className="fd-data-message", role="status"),
         ]),
         html.Section(className="fd-data-box", children=[
             html.H3("Quick fit"),
@@ -81,9 +94,11 @@ def data_tools(options: DataToolOptions) -> html.Div:
                           className="fd-fit-free"),
             html.Div([_bound_inputs(p) for p in params], className="fd-fit-bounds"),
             html.Div(className="fd-data-row", children=[
-                html.Button("fit", id=ids.fit_run, n_clicks=0, className="fd-button"),
+                html.Button("fit", id=ids.fit_run, n_clicks=0, disabled=True, className="fd-button"),
+                html.Small(options["no_data_reason"], id=ids.fit_reason, className="fd-reason", role="status"),
                 html.Button("load the fit into a free slot", id=ids.fit_load, n_clicks=0, disabled=True,
                             className="fd-button"),
+                html.Small(options["no_fit_reason"], id=ids.fit_load_reason, className="fd-reason", role="status"),
                 html.Span(id=ids.fit_load_message, className="fd-note"),
             ]),
             dcc.Store(id=ids.fit_store, data=None),
@@ -99,7 +114,8 @@ def data_tools(options: DataToolOptions) -> html.Div:
                 html.Label("y", htmlFor=ids.map_y),
                 dcc.Dropdown(id=ids.map_y, options=choices, value=options["map_default"][1], clearable=False,
                              searchable=False, className="fd-fit-slot"),
-                html.Button("draw the map", id=ids.map_run, n_clicks=0, className="fd-button"),
+                html.Button("draw the map", id=ids.map_run, n_clicks=0, disabled=True, className="fd-button"),
+                html.Small(options["no_data_reason"], id=ids.map_reason, className="fd-reason", role="status"),
             ]),
             dcc.Loading(html.Div(id=ids.map_out), type="dot", delay_show=300),
         ]),
@@ -116,7 +132,7 @@ def data_tools(options: DataToolOptions) -> html.Div:
             ]),
             html.Div(id=ids.catalogue_message, className="fd-note", role="status"),
         ]),
-    ])
+    ]
 
 
 def messages(items: list[tuple[str, str]]) -> list:

@@ -20,11 +20,11 @@ import weakref
 import numpy as np
 
 from layouts.palette import (COMPONENT_COLOURS, COMPONENT_DASHES, DATA_COLOUR, EPOCH_SYMBOLS, GUIDE_COLOUR,
-                             GUIDE_DASHES, slot_colour, slot_dash)
+                             GUIDE_DASHES, slot_colour, slot_dash, slot_symbol)
 from layouts.text import escape_for_figure, render
 
-__all__ = ["figure", "small_multiples", "typed_array", "uniform_step", "chi2_map_figure", "FONT_SIZE",
-           "ANNOTATION_SIZE", "TITLE_SIZE"]
+__all__ = ["figure", "small_multiples", "typed_array", "uniform_step", "chi2_map_figure", "slot_offsets",
+           "FONT_SIZE", "ANNOTATION_SIZE", "TITLE_SIZE", "SLOT_SPREAD"]
 
 # Sizes that read on a meeting-room projector: 14 px text (ticks, axis titles, legend, hover),
 # 12 px annotations, 16 px figure titles.
@@ -82,10 +82,14 @@ def _x_of(values) -> dict:
     return {"x0": grid[0], "dx": grid[1]}
 
 
-POINT_ROLES = frozenset({"data", "residual", "pull"})
-MARKER_SIZE = 5
+POINT_ROLES = frozenset({"data", "residual", "pull", "binned"})
+MODEL_POINT_ROLES = frozenset({"residual", "pull", "binned"})
+MARKER_SIZE, BINNED_SIZE = 5, 11
 # residuals of several models share each redshift: past this many points, let the ones below show through
 CROWDED_POINTS, CROWDED_OPACITY = 50, 0.55
+# several models' residuals at one redshift are drawn side by side, spread over ± this share of
+# the z axis span (the hover still names the true z); common practice, no source
+SLOT_SPREAD = 0.015
 
 
 def _line(series: dict) -> dict:
@@ -112,6 +116,37 @@ def _legend_group(series: dict, name: str) -> str:
     return f"slot{series.get('slot', 1)}"
 
 
+def _model_points(spec: dict) -> list[dict]:
+    strip = spec.get("strip") or {}
+    return [p for p in list(spec.get("points", [])) + list(strip.get("series", []))
+            if p.get("role") in MODEL_POINT_ROLES]
+
+
+def slot_offsets(spec: dict) -> dict[int, float]:
+    """slot -> the shift of its residuals, pulls and binned means along z (in log10 z on a log
+    axis): the models present spread evenly over ± `SLOT_SPREAD` of the points' z span, in slot
+    order; nothing when one model is drawn."""
+    points = _model_points(spec)
+    slots = sorted({p.get("slot", 1) for p in points})
+    if len(slots) < 2:
+        return {}
+    log = spec.get("x_log", False)
+    xs = np.concatenate([np.asarray(p.get(k), dtype=float) for p in points for k in ("x", "x_low", "x_high")
+                         if p.get(k) is not None] or [np.zeros(0)])
+    xs = xs[np.isfinite(xs) & ((xs > 0) if log else True)]
+    if xs.size == 0:
+        return {}
+    xs = np.log10(xs) if log else xs
+    span = float(xs.max() - xs.min()) or 1.0
+    n = len(slots)
+    return {slot: SLOT_SPREAD * span * (2.0 * i / (n - 1) - 1.0) for i, slot in enumerate(slots)}
+
+
+def _shifted(x, offset: float, log: bool) -> np.ndarray:
+    x = np.asarray(x, dtype=float)
+    return x * 10.0 ** offset if log else x + offset
+
+
 def _unit_text(unit: str) -> str:
     return f" {unit}" if unit else ""
 
@@ -121,25 +156,44 @@ def _unit_text(unit: str) -> str:
 _EXTRA = "<extra>%{fullData.name}</extra>"
 
 
-def _points_trace(points: dict, spec: dict, yaxis: str, unit: str | None = None, crowded: bool = False) -> dict:
-    """Measurements (role data), or one model's residuals or pulls, as markers with 1-sigma error
-    bars; `text` (labels from the file) is escaped."""
+def _points_trace(points: dict, spec: dict, yaxis: str, unit: str | None = None, crowded: bool = False,
+                  offsets: dict | None = None) -> dict:
+    """Measurements (role data) as dark circles, or one model's residuals, pulls or binned means
+    in its slot's colour and marker shape (shifted a little along z by `offsets`, the hover
+    naming the true z), with 1-sigma error bars; a bin's mean carries a bar spanning the bin.
+    `text` (labels from the file) is escaped."""
     unit = spec.get("unit", "") if unit is None else unit
     name = escape_for_figure(render(points["name"]))
-    colour = DATA_COLOUR if points.get("role") == "data" else slot_colour(points.get("slot", 1))
-    opacity = CROWDED_OPACITY if crowded and len(points["x"]) > CROWDED_POINTS else 1.0
+    role, slot = points.get("role"), points.get("slot", 1)
+    colour = DATA_COLOUR if role == "data" else slot_colour(slot)
+    opacity = CROWDED_OPACITY if crowded and role != "binned" and len(points["x"]) > CROWDED_POINTS else 1.0
+    x = np.asarray(points["x"], dtype=float)
+    offset = (offsets or {}).get(slot, 0.0) if role in MODEL_POINT_ROLES else 0.0
+    drawn = _shifted(x, offset, spec.get("x_log", False)) if offset else x
+    marker = {"color": colour, "size": BINNED_SIZE if role == "binned" else MARKER_SIZE,
+              "symbol": "circle" if role == "data" else slot_symbol(slot), "opacity": opacity}
+    if role == "binned":
+        marker["line"] = {"color": "white", "width": 1}
     trace = {
         "type": "scatter", "mode": "markers", "name": name, "xaxis": "x", "yaxis": yaxis,
-        "x": np.asarray(points["x"], dtype=float).tolist(), "y": np.asarray(points["y"], dtype=float).tolist(),
-        "legendgroup": _legend_group(points, name), "showlegend": points.get("role") != "pull",
-        "marker": {"color": colour, "size": MARKER_SIZE, "symbol": "circle", "opacity": opacity},
-        "hovertemplate": (f"{spec.get('x_hover', 'x')} = %{{x:.5g}}<br>"
+        "x": drawn.tolist(), "y": np.asarray(points["y"], dtype=float).tolist(),
+        "legendgroup": _legend_group(points, name), "showlegend": role != "pull", "marker": marker,
+        "hovertemplate": (f"{spec.get('x_hover', 'x')} = %{{{'customdata' if offset else 'x'}:.5g}}<br>"
                           f"{points.get('y_hover', spec.get('y_hover', 'y'))} = %{{y:.5g}}{_unit_text(unit)}"
                           + ("<br>%{text}" if points.get("text") is not None else "") + _EXTRA),
     }
+    if offset:
+        trace["customdata"] = x.tolist()
     if points.get("error") is not None:
         trace["error_y"] = {"type": "data", "array": np.asarray(points["error"], dtype=float).tolist(),
-                            "visible": True, "thickness": 1, "width": 0, "color": colour}
+                            "visible": True, "thickness": 2 if role == "binned" else 1, "width": 0,
+                            "color": colour}
+    if role == "binned":
+        low, high = _shifted(points["x_low"], offset, spec.get("x_log", False)), _shifted(
+            points["x_high"], offset, spec.get("x_log", False))
+        trace["error_x"] = {"type": "data", "symmetric": False, "array": (high - drawn).tolist(),
+                            "arrayminus": (drawn - low).tolist(), "visible": True, "thickness": 2,
+                            "width": 4, "color": colour}
     if points.get("text") is not None:
         trace["text"] = [escape_for_figure(t) for t in points["text"]]
     return trace
@@ -151,9 +205,9 @@ def _crowded(series: list[dict]) -> bool:
 
 
 def _trace(series: dict, spec: dict, yaxis: str, xaxis: str = "x", unit: str | None = None,
-           crowded: bool = False) -> dict:
+           crowded: bool = False, offsets: dict | None = None) -> dict:
     if series.get("role") in POINT_ROLES:
-        return _points_trace(series, spec, yaxis, unit, crowded)
+        return _points_trace(series, spec, yaxis, unit, crowded, offsets)
     name = escape_for_figure(render(series["name"]))
     unit = spec.get("unit", "") if unit is None else unit
     return {
@@ -263,7 +317,8 @@ def figure(spec: dict) -> dict:
     data = [_trace(s, spec, "y") for s in spec["series"]]
     points = spec.get("points", [])
     crowded = _crowded(points)
-    data += [_points_trace(p, spec, "y", crowded=crowded) for p in points]
+    offsets = slot_offsets(spec)
+    data += [_points_trace(p, spec, "y", crowded=crowded, offsets=offsets) for p in points]
     layout = _base_layout(spec, 460 if strip else 380)
     main_domain = [STRIP_SHARE + 0.08, 1.0] if strip else [0.0, 1.0]
     layout["xaxis"] = _axis(spec.get("x_title", ""), spec.get("x_log", False), anchor="y2" if strip else "y")
@@ -273,7 +328,7 @@ def figure(spec: dict) -> dict:
         layout["yaxis2"] = _axis(strip["y_title"], False, domain=[0.0, STRIP_SHARE], anchor="x")
         crowded = _crowded(strip["series"])
         for s in strip["series"]:
-            trace = _trace(s, spec, "y2", unit=strip.get("unit", ""), crowded=crowded)
+            trace = _trace(s, spec, "y2", unit=strip.get("unit", ""), crowded=crowded, offsets=offsets)
             trace["showlegend"] = False
             data.append(trace)
         data += _strip_points(strip)

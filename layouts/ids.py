@@ -33,6 +33,8 @@ class _Ids:
     download_panel_file = "fd-download-panel-file"
     # data panel tools (always in the page, shown on the data tab)
     data_tools = "fd-data-tools"
+    data_tools_details = "fd-data-tools-details"
+    format_link = "fd-format-link"
     data_upload = "fd-data-upload"
     covariance_upload = "fd-cov-upload"
     covariance_name = "fd-cov-name"
@@ -47,6 +49,9 @@ class _Ids:
     fit_store = "fd-fit-store"
     fit_load = "fd-fit-load"
     fit_load_message = "fd-fit-load-message"
+    fit_reason = "fd-fit-reason"
+    fit_load_reason = "fd-fit-load-reason"
+    map_reason = "fd-map-reason"
     map_x = "fd-map-x"
     map_y = "fd-map-y"
     map_run = "fd-map-run"

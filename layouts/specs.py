@@ -22,8 +22,9 @@ Array = Any  # a 1-d numpy array or a list of floats
 # What a curve or a set of points is; layouts chooses its look from this (and its slot).
 #   model: one model's curve (slot colour and dash); component: one energy component of one
 #   model (colour per component); guide: a reference slope; data: measurements with error
-#   bars; residual: data minus one model; pull: (data - model) / error of one model.
-Role = Literal["model", "component", "guide", "data", "residual", "pull"]
+#   bars; residual: data minus one model; pull: (data - model) / error of one model; binned: one
+#   model's weighted mean residual per redshift bin (x_low..x_high).
+Role = Literal["model", "component", "guide", "data", "residual", "pull", "binned"]
 Tone = Literal["note", "caution", "error"]
 
 
@@ -53,6 +54,8 @@ class Series(TypedDict):
     y_hover: NotRequired[str]  # symbol in the hover text (default: the figure's)
     error: NotRequired[Array]  # points: 1-sigma error bars
     text: NotRequired[list[str]]  # points: one label per point (from the user's file: escaped by layouts)
+    x_low: NotRequired[Array]  # binned: each bin's lower edge
+    x_high: NotRequired[Array]  # binned: each bin's upper edge
 
 
 class Strip(TypedDict):
@@ -217,6 +220,10 @@ class FitParameter(TypedDict):
 
 class DataToolOptions(TypedDict):
     format: str
+    format_link: str  # the text of the link to the format's page
+    format_url: str  # that page (the app factory sets it under the URL prefix)
+    no_data_reason: str  # beside the fit and map buttons while the link has no measurements
+    no_fit_reason: str  # beside "load the fit" before a fit
     placeholder: str
     limits: str
     demo_label: str

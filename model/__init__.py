@@ -16,6 +16,7 @@ from ._errors import ModelError, NoBigBangError, ParameterError
 from ._growth import linear_growth
 from ._inverse import INVERTIBLE, redshift_at
 from . import fitting
+from .fitting import BinnedResiduals, binned_residuals
 from .fitting import (DELIMITERS, CONFIDENCE_LEVELS_2D, FIT_PARAMETERS, MEASUREMENT_COLUMNS, MEASUREMENT_KINDS,
                       PREDICTIONS, Chi2Map, DistanceBatch, FitError, FitResult, GoodnessOfFit,
                       KindResiduals, MeasurementFormatError, MeasurementKind, MeasurementLimits,

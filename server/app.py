@@ -42,7 +42,7 @@ def create_app(config: dict | None = None) -> dash.Dash:
     if not any(isinstance(f, RedactExceptions) for f in flask_app.logger.filters):
         flask_app.logger.addFilter(RedactExceptions())  # the logger is shared by name: add it once
 
-    from server import api, callbacks  # deferred: they import the model
+    from server import api, callbacks, format_page  # deferred: they import the model
     from layouts.page import page
 
     install_limits(flask_app)
@@ -57,7 +57,11 @@ def create_app(config: dict | None = None) -> dash.Dash:
         suppress_callback_exceptions=True,
     )
     app.index_string = app.index_string.replace("<html>", '<html lang="en">', 1)  # for screen readers
-    app.layout = page(callbacks.page_options())
+    options = callbacks.page_options()
+    format_url = app.get_relative_path("/format")
+    options["data_tools"] = {**options["data_tools"], "format_url": format_url}
+    app.layout = page(options)
+    format_page.register(flask_app, prefix, page_url=app.get_relative_path("/"))
     callbacks.register(app)
     install_guards(flask_app, app, prefix)
     install_response_cache(flask_app)

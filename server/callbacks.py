@@ -24,7 +24,7 @@ from server import codec, data_store, state as states
 from server.cache import BudgetExceeded
 from server.views import data_tools
 from server.views.cards import card_status as card_status_spec, cards, chips
-from server.views.comparison import compare
+from server.views.comparison import compare, measurements
 from server.views.downloads import panel_csv, parameter_sets
 from server.views.page import page_options, panel  # page_options: read by the app factory
 
@@ -206,6 +206,7 @@ def register(app) -> None:
         Output(ids.notice_box, "style"),
         Output(ids.link_text, "value"),
         Output(ids.data_tools, "style"),
+        Output(ids.data_tools_details, "open"),
         Output(ids.fit_slot, "options"),
         Output(ids.fit_slot, "value"),
         Input(ids.url, "search"),
@@ -227,14 +228,23 @@ def register(app) -> None:
             f"{p.message} (the default is shown instead)" for p in state.view.problems()]
         box = {"display": "block"} if (dropped or state.unknown) else {"display": "none"}
         base = (href or "").split("?")[0]
-        tools = {"display": "grid"} if state.view.tab == "data" else {"display": "none"}
+        tools = {"display": "block"} if state.view.tab == "data" else {"display": "none"}
+        # the tools are open while the link has no measurements it can load; once a set is in it, the results
+        # come first (React only touches the element when this value changes, so a block the
+        # reader opened or closed stays so while the link keeps or keeps lacking its data)
+        tools_open = measurements(comparison)[0] is None
         slots = state.slots()
         return (body, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
-                _reference_options(state), fit_slot if fit_slot in slots else codec.reference_slot(state))
+                tools_open, _reference_options(state),
+                fit_slot if fit_slot in slots else codec.reference_slot(state))
 
     @app.callback(
         Output(ids.url, "search", allow_duplicate=True),
         Output(ids.data_message, "children"),
+        Output(ids.data_upload, "contents"),
+        Output(ids.data_upload, "filename"),
+        Output(ids.covariance_upload, "contents"),
+        Output(ids.covariance_upload, "filename"),
         Input(ids.data_upload, "contents"),
         Input(ids.data_paste, "n_clicks"),
         Input(ids.data_demo, "n_clicks"),
@@ -245,7 +255,18 @@ def register(app) -> None:
         prevent_initial_call=True,
     )
     def store_data(upload, _paste, _demo, filename, text, covariance, search):
+        """Store an upload, a pasted table or the demo and put it in the link. A chosen file is
+        cleared from its input once used (so choosing the same, corrected, file again loads it
+        again); the covariance file too once a set is loaded with it."""
         trigger = ctx.triggered_id
+        used = (None, None) if trigger == ids.data_upload else (no_update, no_update)
+        search_out, message = _store(trigger, upload, filename, text, covariance, search)
+        loaded = search_out is not no_update
+        with_covariance = loaded and covariance is not None and trigger in (ids.data_upload, ids.data_paste)
+        covariance_used = (None, None) if with_covariance else (no_update, no_update)
+        return (search_out, message) + used + covariance_used
+
+    def _store(trigger, upload, filename, text, covariance, search):
         state = codec.decode(search or "")
         try:
             if trigger == ids.data_demo:
@@ -282,7 +303,6 @@ def register(app) -> None:
     @app.callback(
         Output(ids.fit_out, "children"),
         Output(ids.fit_store, "data"),
-        Output(ids.fit_load, "disabled"),
         Input(ids.fit_run, "n_clicks"),
         State(ids.fit_slot, "value"),
         State(ids.fit_free, "value"),
@@ -292,16 +312,32 @@ def register(app) -> None:
     )
     def run_fit(n_clicks, slot, free, _bounds, search):
         if not n_clicks:
-            return no_update, no_update, no_update
+            return no_update, no_update
         state = codec.decode(search or "")
         try:
             fit = data_tools.fit_request(state, slot, list(free or []), _fit_bounds(ctx.states_list[2]))
         except (data_tools.FitRequestError, data_store.DataError, model.ModelError, BudgetExceeded) as err:
-            return messages([("error", f"No fit: {err}")]), None, True
+            return messages([("error", f"No fit: {err}")]), None
         except Exception as err:  # noqa: BLE001
             logger.exception("fit failed for %r", search)
-            return messages([("error", f"No fit: the computation failed ({err})")]), None, True
-        return fit_report(data_tools.fit_report(fit)), fit, False
+            return messages([("error", f"No fit: the computation failed ({err})")]), None
+        return fit_report(data_tools.fit_report(fit)), fit
+
+    @app.callback(
+        Output(ids.fit_run, "disabled"),
+        Output(ids.fit_reason, "children"),
+        Output(ids.map_run, "disabled"),
+        Output(ids.map_reason, "children"),
+        Output(ids.fit_load, "disabled"),
+        Output(ids.fit_load, "children"),
+        Output(ids.fit_load_reason, "children"),
+        Input(ids.url, "search"),
+        Input(ids.fit_store, "data"),
+    )
+    def tool_buttons(search, fit):
+        """The fit, map and load buttons are enabled only when they can act, the reason beside them."""
+        s = data_tools.button_states(codec.decode(search or ""), fit)
+        return bool(s["fit"]), s["fit"], bool(s["map"]), s["map"], bool(s["load"]), s["load_label"], s["load"]
 
     @app.callback(
         Output(ids.url, "search", allow_duplicate=True),

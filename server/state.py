@@ -257,6 +257,10 @@ def view_from_pairs(view_pairs: dict[str, str], slots: tuple[int, ...]) -> tuple
             changes["reference"] = None
         elif changes["reference"] == slots[0]:
             changes["reference"] = None  # the first model is the default reference
+    if isinstance(changes.get("residual_slot"), int) and changes["residual_slot"] not in slots:
+        notices.append(Problem("res", f"res: model {changes['residual_slot']} is not in the link; expected all or "
+                                      f"one of {', '.join(map(str, slots))} (showing every model's residuals)"))
+        changes["residual_slot"] = "all"
     if changes.get("fit") is not None and changes["fit"][0] not in slots:
         notices.append(Problem("fit", f"fit: model {changes['fit'][0]} is not in the link; "
                                       "the fit note is dropped"))

@@ -6,8 +6,9 @@ delta-chi^2 maps over many parameter sets (:class:`DistanceBatch`, :func:`quick_
 :func:`chi2_map`). Every name here is also exported by ``model`` itself.
 """
 
-from . import _batch, _fit, _kinds, _likelihood, _maps, _measurements, _rows
+from . import _batch, _bins, _fit, _kinds, _likelihood, _maps, _measurements, _rows
 from ._batch import DistanceBatch
+from ._bins import BinnedResiduals, binned_residuals
 from ._fit import FIT_PARAMETERS, FitError, FitResult, quick_fit
 from ._kinds import MEASUREMENT_KINDS, PREDICTIONS, MeasurementKind
 from ._likelihood import GoodnessOfFit, KindResiduals, Nuisances, compare_models, goodness_of_fit
@@ -17,4 +18,4 @@ from ._measurements import (MEASUREMENT_COLUMNS, MeasurementFormatError, Measure
 from ._rows import DELIMITERS, TableFormatError, content_cells, read_lines, read_rows, sniff_delimiter
 
 __all__ = [*_rows.__all__, *_kinds.__all__, *_measurements.__all__, *_likelihood.__all__,
-           *_fit.__all__, *_maps.__all__, *_batch.__all__]
+           *_fit.__all__, *_maps.__all__, *_batch.__all__, *_bins.__all__]

@@ -13,7 +13,8 @@ from server import codec, compute, data_store, fields, state as states
 from server.views.comparison import SYNTHETIC_NOTE, is_synthetic, num
 
 __all__ = ["FIT_LABELS", "DEFAULT_BOUNDS", "MAP_POINTS", "FitRequestError", "data_tool_options", "store_upload",
-           "parse_bounds", "fit_request", "fit_report", "map_request"]
+           "parse_bounds", "fit_request", "fit_report", "map_request", "button_states", "NO_DATA_REASON",
+           "NO_FIT_REASON"]
 
 FIT_LABELS = {"h0": "H₀", "omega_m": "Ω_m", "omega_k": "Ω_k", "w0": "w₀", "wa": "w_a", "sigma8": "σ₈",
               "r_d": "r_d (nuisance)", "offset": "supernova offset M (nuisance)"}
@@ -43,13 +44,21 @@ def _title(name: str) -> str:
     return f"{FIT_LABELS[name]} [{unit}]" if unit else FIT_LABELS[name]
 
 
+NO_DATA_REASON = "load measurements first"
+NO_FIT_REASON = "run a fit first"
+
+
 def data_tool_options() -> DataToolOptions:
     limits = data_store.LIMITS
     return {
         "format": ("One row per measurement: a header line naming the columns z, kind, value, error (required) "
                    "and label, z_helio, group, correlation (optional), then rows separated by commas (or tabs, as a "
                    "spreadsheet copies them, or semicolons); kinds: "
-                   + ", ".join(model.MEASUREMENT_KINDS) + ". Full description: docs/measurements-format.md."),
+                   + ", ".join(model.MEASUREMENT_KINDS) + "."),
+        "format_link": "the measurement format in full (columns, kinds, covariance files)",
+        "format_url": "format",
+        "no_data_reason": NO_DATA_REASON,
+        "no_fit_reason": NO_FIT_REASON,
         "placeholder": "z,kind,value,error,label\n0.51,dm_over_rd,13.6,0.25,my survey z=0.51\n"
                        "0.8,hubble_parameter,95,9,my H(z) point",
         "limits": (f"Limits: measurement file ≤ {byte_size(limits.max_bytes)}, ≤ {limits.max_rows} rows, cells ≤ "
@@ -224,3 +233,20 @@ def map_request(state: codec.LinkState, slot, x_name, y_name, bounds: dict, fit:
                      "x": grid["x"], "y": grid["y"], "delta_chi2": grid["delta_chi2"],
                      "levels": [tuple(level) for level in grid["levels"]],
                      "best": (best[x_name], best[y_name])}, "notes": notes}
+
+
+def button_states(state: codec.LinkState, fit: dict | None) -> dict:
+    """Whether the fit, map and load buttons can act, and the reason shown beside each when not:
+    fit and map need measurements in the link; loading needs a fit, a free slot and the fit's
+    start model (`state.with_fit` decides). ``{"fit": reason, "map": reason, "load": reason,
+    "load_label": text}`` with reason "" when the button can act."""
+    no_data = NO_DATA_REASON if state.view.data is None or "data" in dict(state.view.invalid) else ""
+    load, label = NO_FIT_REASON, "load the fit into a free slot"
+    if fit:
+        try:
+            slot = states.with_fit(state, fit).view.fit[0]
+        except states.TransitionError as err:
+            load = str(err).removeprefix("load: ")
+        else:
+            load, label = "", f"load the fit into m{slot}"
+    return {"fit": no_data, "map": no_data, "load": load, "load_label": label}

@@ -28,6 +28,13 @@ def _cosmology(m: codec.ModelState) -> model.Cosmology:
     return model.Cosmology(**kwargs)
 
 
+def open_tools(dash_duo):
+    """Open the data tools block (closed once a set is in the link)."""
+    if not dash_duo.driver.execute_script("return document.getElementById('fd-data-tools-details').open"):
+        dash_duo.find_element("#fd-data-tools-details > summary").click()
+    wait_until(dash_duo, lambda d: d.find_element(By.CSS_SELECTOR, "#fd-fit-run").is_displayed())
+
+
 def test_demo_data_chi2_fit_load_into_slot_and_map(dash_duo, app_factory):
     open_link(dash_duo, app_factory(), "tab=data")
     dash_duo.find_element("#fd-data-demo").click()
@@ -41,6 +48,7 @@ def test_demo_data_chi2_fit_load_into_slot_and_map(dash_duo, app_factory):
     assert len(dash_duo.find_elements("#fd-fig-residual-distance_modulus")) == 1
 
     # quick fit of the reference model (slot 1) with the default free parameters Ω_m and w₀
+    open_tools(dash_duo)
     dash_duo.find_element("#fd-fit-run").click()
     dash_duo.wait_for_contains_text("#fd-fit-out", "χ²_min", timeout=20)
     start = _cosmology(codec.demo_models()[0])

@@ -38,6 +38,7 @@ def _copied_like_the_image(destination: Path) -> None:
             if path.is_dir():
                 shutil.copytree(path, destination / source, ignore=shutil.ignore_patterns("__pycache__"))
             else:
+                (destination / source).parent.mkdir(parents=True, exist_ok=True)
                 shutil.copy2(path, destination / source)
 
 
@@ -58,6 +59,12 @@ def test_the_wheel_holds_the_demo_table(wheel):
     with zipfile.ZipFile(wheel) as archive:
         assert MEMBER in archive.namelist()
         assert archive.read(MEMBER) == DEMO.read_bytes()
+
+
+def test_the_wheel_holds_the_format_description(wheel):
+    # server/docs/measurements-format.md links to docs/; the wheel must hold the text itself
+    with zipfile.ZipFile(wheel) as archive:
+        assert archive.read("server/docs/measurements-format.md") == (ROOT / "docs" / "measurements-format.md").read_bytes()
 
 
 def test_an_installed_copy_loads_the_demo_through_the_app(wheel, tmp_path):
@@ -81,8 +88,10 @@ def test_an_installed_copy_loads_the_demo_through_the_app(wheel, tmp_path):
         "                                          data_store.DEMO_PATH.name)\n"
         "response = app.server.test_client().post('/api/v1/data', data=data_store.demo_bytes(),\n"
         "                                         content_type='text/csv')\n"
+        "page = app.server.test_client().get('/format')\n"
         "print(json.dumps({'server': server.__file__, 'model': model.__file__, 'search': search,\n"
-        "                  'message': message, 'status': response.status_code}))\n")
+        "                  'message': message, 'status': response.status_code,\n"
+        "                  'format': [page.status_code, page.get_data(as_text=True)]}))\n")
     outside = tmp_path / "elsewhere"
     outside.mkdir()
     environment = {k: v for k, v in os.environ.items() if k not in ("PYTHONPATH", "PYTHONHOME")}
@@ -94,6 +103,7 @@ def test_an_installed_copy_loads_the_demo_through_the_app(wheel, tmp_path):
     for package in ("server", "model"):
         assert Path(answer[package]).is_relative_to(target), answer[package]  # not this worktree
     assert answer["status"] == 201
+    assert answer["format"][0] == 200 and "<h1>Measurement tables</h1>" in answer["format"][1]
     rows = len(model.read_measurements(DEMO))
     assert f"Stored {rows} measurements from synthetic demo data" in answer["message"]
     assert "data=" in answer["search"] and "tab=data" in answer["search"]

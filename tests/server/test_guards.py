@@ -10,7 +10,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 PANEL_OUTPUT = ("..fd-panel.children...fd-notice.children...fd-notice-box.style...fd-link-text.value..."
-                "fd-data-tools.style...fd-fit-slot.options...fd-fit-slot.value..")
+                "fd-data-tools.style...fd-data-tools-details.open...fd-fit-slot.options...fd-fit-slot.value..")
 
 
 @pytest.fixture(scope="module")

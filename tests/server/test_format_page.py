@@ -1,0 +1,66 @@
+"""The measurement format's page (``<prefix>format``): served by the app from the package's copy
+of docs/measurements-format.md, at the root and under a URL prefix, linked from the data tab;
+and the small Markdown converter behind it, checked against the HTML elements of the HTML
+Living Standard (headings h1-h6, p, ul/ol/li, pre/code, table/thead/tbody/tr/th/td)."""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+import pytest
+
+from layouts.ids import ids
+from server.format_page import markdown_to_html
+
+ROOT = Path(__file__).resolve().parents[2]
+SOURCE = (ROOT / "docs" / "measurements-format.md").read_text(encoding="utf-8")
+HEADINGS = [m.group(2) for m in re.finditer(r"^(#{1,6}) (.+)$", SOURCE, re.M)]
+
+
+def _find(component, wanted):
+    if getattr(component, "id", None) == wanted:
+        return component
+    children = getattr(component, "children", None)
+    for child in children if isinstance(children, (list, tuple)) else [children]:
+        if child is not None and not isinstance(child, (str, int, float)):
+            found = _find(child, wanted)
+            if found is not None:
+                return found
+    return None
+
+
+@pytest.mark.parametrize("prefix", ["/", "/cosmo/"])
+def test_the_page_answers_with_every_heading_and_the_tab_links_to_it(app_factory, prefix):
+    app = app_factory(URL_PREFIX=prefix)
+    r = app.server.test_client().get(prefix + "format")
+    assert r.status_code == 200 and r.mimetype == "text/html"  # RFC 9110: 200 OK
+    body = r.get_data(as_text=True)
+    assert HEADINGS and all(h in body for h in HEADINGS)
+    assert "<h1>Measurement tables</h1>" in body and "<table>" in body and "<pre><code>" in body
+    assert f'href="{prefix}"' in body  # back to the desk
+    link = _find(app.layout, ids.format_link)
+    assert link is not None and link.href == prefix + "format"
+
+
+def test_no_page_outside_the_prefix(app_factory):
+    app = app_factory(URL_PREFIX="/cosmo/")
+    assert app.server.test_client().get("/format").status_code == 404
+
+
+def test_converter_elements_and_escaping():
+    text = ("## Kinds <b>\n\nA *short* line\nand its **second** half, `a|b`, [home](#top), "
+            "[bad](javascript:alert).\n\n1. first\n   continued\n2. second\n\n"
+            "| a | b |\n|---|---|\n| `x|y` | <i> |\n\n```\n<raw> & code\n```\n")
+    assert markdown_to_html(text) == "\n".join([
+        "<h2>Kinds &lt;b&gt;</h2>",
+        "<p>A <em>short</em> line and its <strong>second</strong> half, <code>a|b</code>, "
+        '<a href="#top">home</a>, <a href="#">bad</a>.</p>',
+        "<ol><li>first continued</li><li>second</li></ol>",
+        "<table><thead><tr><th>a</th><th>b</th></tr></thead><tbody><tr><td><code>x|y</code></td>"
+        "<td>&lt;i&gt;</td></tr></tbody></table>",
+        "<pre><code>&lt;raw&gt; &amp; code</code></pre>"])
+
+
+def test_the_package_copy_is_the_document():
+    assert (ROOT / "server" / "docs" / "measurements-format.md").read_text(encoding="utf-8") == SOURCE
