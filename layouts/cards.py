@@ -37,11 +37,11 @@ def line_sample(slot: int) -> html.Span:
     return html.Span(className="fd-line-sample", style={"background": background}, **{"aria-hidden": "true"})
 
 
-def slot_shell(slot: int, filled: bool = False) -> html.Div:
-    """The static shell of slot `slot`: its chip (a toggle button) and the popover that holds
-    its card and status."""
+def slot_shell(slot: int) -> html.Div:
+    """The static shell of slot `slot`, empty until the link fills it: its chip (a toggle
+    button) and the popover that holds its card and status."""
     card_id = f"fd-card-box-{slot}"
-    return html.Div(id=ids.slot(slot), className=SHELL_CLASSES["closed" if filled else "empty"], children=[
+    return html.Div(id=ids.slot(slot), className=SHELL_CLASSES["empty"], children=[
         html.Button(id=ids.chip(slot), className="fd-chip", type="button", n_clicks=0,
                     **{"aria-expanded": "false", "aria-controls": card_id}),
         html.Div(id=card_id, className="fd-card-box", role="group", **{"aria-label": f"model m{slot}"}, children=[
@@ -59,7 +59,8 @@ def chip(summary: Chip) -> list:
     if summary.get("changes"):
         out.append(html.Span(summary["changes"], className="fd-chip-changes"))
     if summary.get("reference"):
-        out.append(html.Span("ref", className="fd-ref-badge", title="the reference model: strips and Δ are against it"))
+        out.append(html.Span("ref", className="fd-ref-badge",
+                             title="the reference model: strips and Δ are against it"))
     if summary.get("problem"):
         out.append(html.Span("fix me", className="fd-chip-problem", title=summary["problem"]))
     out.append(html.Span("▾", className="fd-chip-caret", **{"aria-hidden": "true"}))

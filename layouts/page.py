@@ -87,14 +87,20 @@ def page(options: PageOptions) -> html.Div:
     ])
 
 
+def _view_dropdown(control: dict, class_name: str, label_id: str) -> html.Div:
+    """The list of view key ``control["key"]``, named by the element `label_id` (a dcc.Dropdown
+    takes no aria-* props, so a group around it carries the name)."""
+    return html.Div(dcc.Dropdown(id=ids.view(control["key"]), options=control["options"], value=control["value"],
+                                 clearable=False, searchable=False, className=class_name),
+                    role="group", **{"aria-labelledby": label_id})
+
+
 def _view_setting(control: dict) -> html.Span:
     """A view key the whole page follows (distance unit, axis scale): a small labelled list."""
     label_id = f"fd-view-label-{control['key']}"
     return html.Span(className="fd-view-setting", children=[
         html.Span(control["label"], className="fd-viewbar-label", id=label_id),
-        html.Div(dcc.Dropdown(id=ids.view(control["key"]), options=control["options"], value=control["value"],
-                              clearable=False, searchable=False, className="fd-view-dropdown"),
-                 role="group", **{"aria-labelledby": label_id}),
+        _view_dropdown(control, "fd-view-dropdown", label_id),
     ])
 
 
@@ -103,9 +109,7 @@ def _control(control: dict):
     label = html.Label(control["label"], className="fd-control-label", htmlFor=dom_id(ids.view(key)),
                        id=f"fd-control-label-{key}")
     if control["kind"] == "dropdown":
-        widget = html.Div(dcc.Dropdown(id=ids.view(key), options=control["options"], value=control["value"],
-                                       clearable=False, searchable=False, className="fd-control-dropdown"),
-                          role="group", **{"aria-labelledby": f"fd-control-label-{key}"})
+        widget = _view_dropdown(control, "fd-control-dropdown", f"fd-control-label-{key}")
     else:
         widget = dcc.Input(id=ids.view(key), type="text", value=control["value"], debounce=True,
                            className="fd-input")
@@ -138,7 +142,8 @@ def _graph(block: dict) -> html.Figure:
     name = (block.get("id") or "figure").removeprefix("fd-fig-")
     drawn = figure(block["spec"]) if block["kind"] == "figure" else small_multiples(block["spec"])
     return html.Figure(className="fd-figure", **{"data-fd-name": f"friedmann-desk-{name}"}, children=[
-        dcc.Graph(figure=drawn, id=block.get("id"), className="fd-graph", config=graph_config(f"friedmann-desk-{name}")),
+        dcc.Graph(figure=drawn, id=block.get("id"), className="fd-graph",
+                  config=graph_config(f"friedmann-desk-{name}")),
         html.Div(className="fd-exports", children=[html.Span("save:", className="fd-exports-label")] + [
             html.Button(label, type="button", title=title, className="fd-button fd-small",
                         **{"data-fd-export": key}) for key, label, title in EXPORTS]),

@@ -59,7 +59,8 @@ def slot_dash(slot: int) -> str:
 # (told apart by dash and by a label at their start).
 DATA_COLOUR = "#222222"
 GUIDE_COLOUR = "#767676"  # the lightest grey with 4.5:1 contrast on white (WCAG 2 AA)
-GUIDE_DASHES = {"photons": "dot", "cold_dark_matter": "dash", "dark_energy": "longdashdot"}  # by the component it follows
+# by the component each guide follows
+GUIDE_DASHES = {"photons": "dot", "cold_dark_matter": "dash", "dark_energy": "longdashdot"}
 
 # One marker symbol per kind of epoch (equality, acceleration, today…), in order of appearance.
 EPOCH_SYMBOLS = ("triangle-down", "diamond", "square", "star", "circle", "x", "cross", "hexagon")

@@ -124,19 +124,15 @@ def register(app) -> None:
         if trigger is None or trigger == ids.url:
             return from_link(current)
         value = ctx.triggered[0]["value"] if ctx.triggered else None
-        if isinstance(trigger, dict) and trigger.get("type") in ("fd-remove", "fd-duplicate", "fd-preset"):
+        button = isinstance(trigger, dict) and trigger.get("type") in ("fd-remove", "fd-duplicate", "fd-preset")
+        if button or trigger == ids.add:
             if not value:
                 return nothing
-            action = trigger["type"].removeprefix("fd-")
-            new = states.apply_action(current, action, trigger["slot"], value)
+            action, slot = (trigger["type"].removeprefix("fd-"), trigger["slot"]) if button else ("add", None)
+            new = states.apply_action(current, action, slot, value)
+            # open the card of a model just added or copied, or the one a preset was applied to
             added = set(new.slots()) - set(current.slots())
-            return write(current, new, min(added) if added else (trigger["slot"] if action == "preset" else None))
-        if trigger == ids.add:
-            if not value:
-                return nothing
-            new = states.apply_action(current, "add")
-            added = set(new.slots()) - set(current.slots())
-            return write(current, new, min(added) if added else None)
+            return write(current, new, min(added) if added else (slot if action == "preset" else None))
         params = [(item["id"], item.get("value")) for item in ctx.inputs_list[1]]
         views = [(item["id"]["key"], item.get("value")) for item in ctx.inputs_list[2]]
         new = states.apply_inputs(current, params, views + [("tab", tab), ("ref", reference), ("zmax", zmax)])

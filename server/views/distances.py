@@ -31,8 +31,8 @@ def build(c: Comparison) -> PanelSpec:
         factor = distance_factor(c, c.reference.curves) if c.reference else 1.0
         distance["spec"]["points"] = data_points(c, DISTANCE_KIND[choice], lambda z, v, err: (v * factor, err * factor))
         if distance["spec"]["points"] and c.state.view.distance_unit == "hmpc":
-            unit_note = [{"kind": "text", "text": f"The measurements (in Mpc) are drawn in h⁻¹ Mpc with the reference "
-                                                  f"model's h = {c.reference.curves['params']['h0'] / 100:.4g}."}]
+            unit_note = [{"kind": "text", "text": "The measurements (in Mpc) are drawn in h⁻¹ Mpc with the "
+                                                  f"reference model's h = {factor:.4g}."}]
         if distance["spec"]["strip"]:
             distance["spec"]["strip"]["points"] = strip_points(c, DISTANCE_KIND[choice])
     modulus = {"kind": "figure", "id": "fd-fig-dmu", "spec": {

@@ -25,16 +25,18 @@ def page_options() -> PageOptions:
 
 
 # the view bar's settings, which every panel follows: (key, label, {link value: text})
+_SCALE_TEXT = {"auto": "auto", "lin": "linear", "log": "log"}
+_SCALES = {choice: _SCALE_TEXT[choice] for choice in fields.AXIS_SCALES}
 VIEW_BAR = (
     ("du", "distances in", {k: unit for k, (unit, _) in fields.DISTANCE_UNITS.items()}),
-    ("xs", "z axis", {"auto": "auto", "lin": "linear", "log": "log"}),
-    ("ys", "y axis", {"auto": "auto", "lin": "linear", "log": "log"}),
+    ("xs", "z axis", _SCALES),
+    ("ys", "y axis", _SCALES),
 )
 
 
 def view_controls(state: codec.LinkState | None = None) -> list[Control]:
     """The view bar's dropdowns, showing `state`'s values (the defaults without one)."""
-    view = (state or codec.decode("")).view
+    view = state.view if state is not None else codec.ViewState()
     return [{"key": key, "kind": "dropdown", "label": label, "value": view.value_text(key),
              "options": [{"label": text, "value": value} for value, text in choices.items()]}
             for key, label, choices in VIEW_BAR]

@@ -10,8 +10,8 @@ from layouts.specs import Control, FigureBlock, Series, Strip, TextBlock
 from server import compute, fields
 from server.views.comparison import Comparison, measurements
 
-__all__ = ["curve_series", "strip", "scale", "distance_factor", "z_axis", "axis_title", "with_unit", "quantity_figure", "failures_note",
-           "measurement_note", "view_control"]
+__all__ = ["curve_series", "strip", "scale", "distance_factor", "z_axis", "axis_title", "with_unit", "quantity_figure",
+           "failures_note", "measurement_note", "view_control"]
 
 
 def axis_title(key: str) -> str:
