@@ -19,10 +19,14 @@ import time
 from pathlib import Path
 
 __all__ = ["ROOT", "LOOPBACK", "free_port", "get", "post", "RedisServer", "Gunicorn", "gunicorn_command",
-           "page_update_payload", "DevServer", "chromium"]
+           "page_update_payload", "DevServer", "chromium", "FOUR_MODELS"]
 
 ROOT = Path(__file__).resolve().parent.parent
 LOOPBACK = "127.0.0.1"
+# The browser benchmarks' link: four invented candidates of a made-up survey team (the README's scenario).
+FOUR_MODELS = [("m1.label", "Lantern baseline"), ("m2.label", "Candidate Ember"), ("m2.w0", "-0.88"),
+               ("m2.wa", "-0.35"), ("m3.label", "Candidate Cinder"), ("m3.ok", "-0.015"),
+               ("m4.label", "Candidate Ash"), ("m4.mnu", "0.15")]
 
 
 def free_port() -> int:

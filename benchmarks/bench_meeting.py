@@ -16,14 +16,10 @@ import statistics
 import time
 import urllib.parse
 
-from benchmarks._serving import DevServer, chromium
+from benchmarks._serving import FOUR_MODELS, DevServer, chromium
 from server.tabs import TAB_KEYS as TABS  # every registered panel
 
 SIZES = ((1280, 800), (1024, 768), (1600, 1000))
-# Four invented candidates of a made-up survey team (the README's scenario).
-FOUR = [("m1.label", "Lantern baseline"), ("m2.label", "Candidate Ember"), ("m2.w0", "-0.88"),
-        ("m2.wa", "-0.35"), ("m3.label", "Candidate Cinder"), ("m3.ok", "-0.015"),
-        ("m4.label", "Candidate Ash"), ("m4.mnu", "0.15")]
 
 _DRAWN = """
 const panel = document.getElementById('fd-panel');
@@ -102,7 +98,7 @@ def run():
     with DevServer() as server:
         try:
             base = server.base + "?"
-            link = base + urllib.parse.urlencode(FOUR + [("tab", "distances")], quote_via=urllib.parse.quote)
+            link = base + urllib.parse.urlencode(FOUR_MODELS + [("tab", "distances")], quote_via=urllib.parse.quote)
             for width, height in SIZES:
                 driver = _driver(width, height)
                 drivers.append(driver)
@@ -111,7 +107,7 @@ def run():
                 print(f"{width}×{height}: first figure starts at y = {top:.0f} px = {top / height:.2f} screens")
             driver = drivers[0]  # 1280×800
             for tab in TABS:
-                url = base + urllib.parse.urlencode(FOUR + [("tab", tab)], quote_via=urllib.parse.quote)
+                url = base + urllib.parse.urlencode(FOUR_MODELS + [("tab", tab)], quote_via=urllib.parse.quote)
                 try:
                     _draw(driver, url)  # server cache and browser assets warm
                     times = [_draw(driver, url) for _ in range(5)]

@@ -9,13 +9,10 @@ import statistics
 import time
 import urllib.parse
 
-from benchmarks._serving import DevServer, chromium
+from benchmarks._serving import FOUR_MODELS, DevServer, chromium
+from server.tabs import TAB_KEYS
 
-TABS = ("budget", "distances", "time", "volume", "acoustic", "table")
-# Four invented candidates of a made-up survey team (the README's scenario).
-FOUR = [("m1.label", "Lantern baseline"), ("m2.label", "Candidate Ember"), ("m2.w0", "-0.88"),
-        ("m2.wa", "-0.35"), ("m3.label", "Candidate Cinder"), ("m3.ok", "-0.015"),
-        ("m4.label", "Candidate Ash"), ("m4.mnu", "0.15")]
+TABS = tuple(key for key in TAB_KEYS if key != "data")  # every panel that draws without measurements
 
 
 _RENDERED = """
@@ -47,12 +44,12 @@ def run():
         driver = chromium()
         try:
             base = server.base + "?"
-            warmup = FOUR + [("m1.h0", "66"), ("tab", "distances")]
+            warmup = FOUR_MODELS + [("m1.h0", "66"), ("tab", "distances")]
             _load_time(driver, base + urllib.parse.urlencode(warmup))  # assets into the browser cache
             cold, warm = {}, {}
             for k, tab in enumerate(TABS):
                 # a fresh set of four models for every tab: nothing computed before
-                fresh = FOUR + [("m1.h0", f"{67.0 + 0.01 * k:g}"), ("tab", tab)]
+                fresh = FOUR_MODELS + [("m1.h0", f"{67.0 + 0.01 * k:g}"), ("tab", tab)]
                 url = base + urllib.parse.urlencode(fresh, quote_via=urllib.parse.quote)
                 cold[tab] = _load_time(driver, url)
                 warm[tab] = _load_time(driver, url)

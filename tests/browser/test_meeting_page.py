@@ -7,6 +7,7 @@ figure to a cloud service, and no serious or critical WCAG 2 A/AA violation on a
 from __future__ import annotations
 
 import base64
+import functools
 import os
 import struct
 import urllib.parse
@@ -18,18 +19,13 @@ from server import codec
 from server.tabs import TAB_KEYS
 from test_page import FOUR, by_id, open_card, open_link, wait_until
 
-AXE_JS = None
-
-
+@functools.cache
 def _axe_source() -> str:
-    global AXE_JS
-    if AXE_JS is None:
-        import axe_selenium_python
+    import axe_selenium_python
 
-        path = os.path.join(os.path.dirname(axe_selenium_python.__file__), "node_modules", "axe-core", "axe.min.js")
-        with open(path, encoding="utf-8") as f:
-            AXE_JS = f.read()
-    return AXE_JS
+    path = os.path.join(os.path.dirname(axe_selenium_python.__file__), "node_modules", "axe-core", "axe.min.js")
+    with open(path, encoding="utf-8") as f:
+        return f.read()
 
 
 def axe_violations(driver) -> list[dict]:

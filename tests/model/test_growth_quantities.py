@@ -12,13 +12,11 @@ Check values (each beside its test):
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 import pytest
-from scipy import integrate
 
 import model
+from test_model_growth import _heath  # Heath (1977): D ∝ E ∫ da/(aE)³ and its f
 
 GROWTH_KEYS = ("growth_factor", "growth_rate", "f_sigma8", "sigma8_at_z")
 RTOL = 1e-7
@@ -57,24 +55,6 @@ def test_einstein_de_sitter_past_and_future():
     np.testing.assert_allclose(v["growth_rate"], 1.0, rtol=1e-9)  # f = 1
     np.testing.assert_allclose(v["sigma8_at_z"], 0.9 / (1.0 + z), rtol=1e-9)
     np.testing.assert_allclose(v["f_sigma8"], 0.9 / (1.0 + z), rtol=1e-9)
-
-
-def _heath(omega_m, omega_k):
-    omega_l = 1.0 - omega_m - omega_k
-
-    def e(a):
-        return math.sqrt(omega_m / a**3 + omega_k / a**2 + omega_l)
-
-    def integral(a):
-        return integrate.quad(lambda x: 1.0 / (x * e(x)) ** 3, 0.0, a, epsabs=0.0, epsrel=1e-13, limit=200)[0]
-
-    def d(a):
-        return e(a) * integral(a)
-
-    def f(a):  # d ln D / d ln a of Heath's integral, in closed form
-        return -(1.5 * omega_m / a**3 + omega_k / a**2) / e(a) ** 2 + 1.0 / (a * a * e(a) ** 3 * integral(a))
-
-    return d, f
 
 
 @pytest.mark.slow
