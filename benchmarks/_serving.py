@@ -253,8 +253,9 @@ def page_update_payload(dependencies: list[dict], search: str, href: str = "http
         return {"id": ident, "property": prop}
 
     outputs = [spec(part) for part in dep["output"].strip(".").split("...")]
-    values = {("fd-url", "search"): search, ("fd-url", "href"): href}
+    # the panel listens to the whole address (server/callbacks.py), `href` with `search` in it
+    values = {("fd-url", "search"): search, ("fd-url", "href"): href.split("?")[0] + search}
     inputs = [{**i, "value": values.get((i["id"], i["property"]))} for i in dep["inputs"]]
     state = [{**s, "value": values.get((s["id"], s["property"]))} for s in dep["state"]]
     return {"output": dep["output"], "outputs": outputs, "inputs": inputs, "state": state,
-            "changedPropIds": ["fd-url.search"]}
+            "changedPropIds": [f"{i['id']}.{i['property']}" for i in dep["inputs"]]}

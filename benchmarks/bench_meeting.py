@@ -77,12 +77,15 @@ def _edit(driver, value):
     from selenium.webdriver.common.keys import Keys
 
     dom = json.dumps({"key": "w0", "slot": 2, "type": "fd-param"}, separators=(",", ":"))
-    box = driver.find_element(By.XPATH, f"//*[@id='{dom}']")
-    if not box.is_displayed():
-        chips = driver.find_elements(By.CSS_SELECTOR, ".fd-chip")
-        if len(chips) >= 2:
-            chips[1].click()
-            time.sleep(0.3)
+    boxes = driver.find_elements(By.XPATH, f"//*[@id='{dom}']")
+    if not (boxes and boxes[0].is_displayed()):  # the card is built when its chip first opens it
+        driver.find_elements(By.CSS_SELECTOR, ".fd-chip")[1].click()
+        end = time.perf_counter() + 10
+        while not (boxes and boxes[0].is_displayed()) and time.perf_counter() < end:
+            time.sleep(0.05)
+            boxes = driver.find_elements(By.XPATH, f"//*[@id='{dom}']")
+        time.sleep(0.3)
+    box = boxes[0]
     box.clear()
     box.send_keys(value)
     driver.execute_script(

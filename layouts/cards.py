@@ -3,7 +3,11 @@
 The page holds four slot shells (`slot_shell`) from the start; callbacks fill a shell's card
 (`model_card`), its chip (`chip`) and its status (`card_status`) separately, so an edit, a
 preset or a new model redraws that slot only and text typed in another card is never touched.
-A chip is a button: it opens and closes its card in the browser (layouts/assets/page.js)."""
+A chip is a button: it opens and closes its card in the browser (layouts/assets/page.js).
+
+A card is built the first time its chip opens it, and kept from then on (its body's class
+becomes ``BODY_CLASSES["filled"]``): the page starts with chips only, because every component
+in the layout costs the renderer time on each update."""
 
 from __future__ import annotations
 
@@ -14,10 +18,12 @@ from layouts.palette import slot_colour, slot_dash
 from layouts.specs import Card, CardStatus, Chip
 from layouts.text import render
 
-__all__ = ["slot_shell", "model_card", "chip", "card_status", "line_sample", "SHELL_CLASSES"]
+__all__ = ["slot_shell", "model_card", "chip", "card_status", "line_sample", "SHELL_CLASSES", "BODY_CLASSES"]
 
 # className of a slot shell: no model in it, a closed chip, or a chip with its card open
 SHELL_CLASSES = {"empty": "fd-slot fd-empty", "closed": "fd-slot", "open": "fd-slot fd-open"}
+# className of a card body: not built yet, or holding its card
+BODY_CLASSES = {"empty": "fd-card-body", "filled": "fd-card-body fd-filled"}
 
 # CSS line patterns for the chip's line sample, matching Plotly's dashes (layouts.palette)
 _PATTERNS = {"solid": None, "dash": (9, 5), "dot": (3, 4), "dashdot": (9, 4, 3, 4)}
@@ -45,7 +51,7 @@ def slot_shell(slot: int) -> html.Div:
         html.Button(id=ids.chip(slot), className="fd-chip", type="button", n_clicks=0,
                     **{"aria-expanded": "false", "aria-controls": card_id}),
         html.Div(id=card_id, className="fd-card-box", role="group", **{"aria-label": f"model m{slot}"}, children=[
-            html.Div(id=ids.card_body(slot)),
+            html.Div(id=ids.card_body(slot), className=BODY_CLASSES["empty"]),
             html.Div(id=ids.status(slot), className="fd-status", **{"aria-live": "polite"}),
         ]),
     ])

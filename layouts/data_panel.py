@@ -15,7 +15,7 @@ from layouts.specs import DataToolOptions, FitReport
 from layouts.tables import table
 from layouts.text import render
 
-__all__ = ["data_tools", "fit_report", "map_view", "messages"]
+__all__ = ["data_tools", "data_tools_body", "TOOLS_CLASSES", "fit_report", "map_view", "messages"]
 
 
 def _bound_inputs(p: dict) -> html.Div:
@@ -41,21 +41,33 @@ def _map_note(points: int, levels) -> str:
             f"parameters, Δχ² = {values}.")
 
 
-def data_tools(options: DataToolOptions) -> html.Div:
-    """`options`: a `layouts.specs.DataToolOptions` (texts, the fit parameters with their default
-    bounds, the map's grid size and contour levels)."""
+# className of the tools' box: empty, or holding the tools (built the first time the Data tab opens)
+TOOLS_CLASSES = {"empty": "fd-tools", "built": "fd-tools fd-built"}
+
+
+def data_tools() -> html.Div:
+    """The box of the data tools, empty until the Data tab first opens: `data_tools_body` then
+    fills it, and it is kept from then on (shown on the Data tab only), so the file inputs and a
+    fit's report survive panel redraws and tab changes. Until then the page carries none of
+    its hundred-odd components, each of which costs the renderer time on every update."""
+    return html.Div(id=ids.data_tools, className=TOOLS_CLASSES["empty"], style={"display": "none"}, children=[])
+
+
+def data_tools_body(options: DataToolOptions) -> list:
+    """The data tools; `options`: a `layouts.specs.DataToolOptions` (texts, the fit parameters
+    with their default bounds, the map's grid size and contour levels)."""
     params = options["parameters"]
     choices = [{"label": f"{p['label']}" + (f" [{p['unit']}]" if p.get("unit") else ""), "value": p["name"]}
                for p in params]
     # a collapsible block after the panel's results (open while the link has no data: the
-    # render callback sets `open`); it stays in the page so the file inputs and a fit's report
-    # survive panel redraws. What the last load did is said above it, visible when it is closed.
-    return html.Div(id=ids.data_tools, style={"display": "none"}, children=[
+    # `tools_view` callback sets `open`). What the last load did is said above it, visible when
+    # it is closed.
+    return [
         html.Div(id=ids.data_message, className="fd-data-message", role="status"),
         html.Details(id=ids.data_tools_details, className="fd-data-details", open=True, children=[
             html.Summary("data tools: load, fit, map, catalogue", className="fd-data-summary"),
             html.Div(className="fd-data-tools", children=_sections(options, params, choices))]),
-    ])
+    ]
 
 
 def _sections(options: DataToolOptions, params: list, choices: list) -> list:

@@ -15,6 +15,7 @@ class _Ids:
     url = "fd-url"
     cards = "fd-cards"
     shells = "fd-shells"
+    build_card = "fd-build-card"
     add = "fd-add"
     add_reason = "fd-add-reason"
     copy_status = "fd-copy-status"

@@ -38,9 +38,12 @@ def page(options: PageOptions) -> html.Div:
     figure starts on the first screen."""
     first = options["tabs"][0][0]
     return html.Div(className="fd-page", children=[
-        dcc.Location(id=ids.url, refresh=False),
+        # "callback-nav": a new address from a callback also updates ``href``, which the
+        # panel listens to (server/callbacks.py)
+        dcc.Location(id=ids.url, refresh="callback-nav"),
         dcc.Store(id=ids.tab, data=first),
         dcc.Store(id=ids.shells, data={"filled": [], "open": None}),
+        dcc.Store(id=ids.build_card, data={"slot": None}),  # a slot whose card is to be built (page.js `shells`)
         html.Header(className="fd-header", children=[
             html.Div([html.H1("Friedmann Desk"),
                       html.Span("compare up to four expansion histories", className="fd-tagline")]),
@@ -83,7 +86,7 @@ def page(options: PageOptions) -> html.Div:
             dcc.Download(id=ids.download_panel_file),
         ]),
         dcc.Loading(html.Div(id=ids.panel, className="fd-panel", role="tabpanel"), type="dot", delay_show=400),
-        data_tools(options["data_tools"]),
+        data_tools(),
     ])
 
 

@@ -62,7 +62,7 @@ def create_app(config: dict | None = None) -> dash.Dash:
     options["data_tools"] = {**options["data_tools"], "format_url": format_url}
     app.layout = page(options)
     format_page.register(flask_app, prefix, page_url=app.get_relative_path("/"))
-    callbacks.register(app)
+    callbacks.register(app, options["data_tools"])
     install_guards(flask_app, app, prefix)
     install_response_cache(flask_app)
     install_cache_headers(flask_app, prefix)

@@ -3,6 +3,10 @@ ever write the link.
 
 `sync` is the one callback that keeps the link and the inputs in step (../shared/TOOLCHAIN.md):
 it has the location's ``search`` as Input and Output, so Back and Forward restore inputs.
+Everything drawn from the link (`render`, `summaries`, `tool_buttons`) listens to the
+location's ``href`` instead, which the location sets after every change of address
+(``refresh="callback-nav"``): Dash holds back a callback whose input another pending callback
+may write, so on ``search`` the panel would wait for `sync` on every page load.
 """
 
 from __future__ import annotations
@@ -15,8 +19,8 @@ import urllib.parse
 
 from dash import ALL, MATCH, ClientsideFunction, Input, Output, State, ctx, dcc, no_update
 
-from layouts.cards import card_status, chip, model_card
-from layouts.data_panel import fit_report, map_view, messages
+from layouts.cards import BODY_CLASSES, card_status, chip, model_card
+from layouts.data_panel import TOOLS_CLASSES, data_tools_body, fit_report, map_view, messages
 from layouts.ids import ids
 from layouts.page import notice, panel_body
 import model
@@ -49,6 +53,12 @@ def upload_bytes(contents: str | None, field: str) -> bytes | None:
                                              "again") from None
 
 
+def _search(href: str | None) -> str:
+    """The query string of the page's address (``?…``, or empty)."""
+    query = urllib.parse.urlsplit(href or "").query
+    return f"?{query}" if query else ""
+
+
 def _fit_bounds(items: list) -> dict:
     return {(item["id"]["key"], item["id"]["end"]): item.get("value") for item in items}
 
@@ -61,9 +71,8 @@ def _card_body(card) -> list:
     return [model_card(card)] if card is not None else []
 
 
-def _card_bodies(state: codec.LinkState, slots: list[int]) -> list:
-    specs = _card_specs(state)
-    return [_card_body(specs.get(k)) for k in slots]
+def _body_class(card) -> str:
+    return BODY_CLASSES["filled"] if card is not None else BODY_CLASSES["empty"]
 
 
 def _shells(state: codec.LinkState, opened: int | None = None) -> dict:
@@ -72,16 +81,24 @@ def _shells(state: codec.LinkState, opened: int | None = None) -> dict:
     return {"filled": list(state.slots()), "open": opened}
 
 
+def _status(state: codec.LinkState, slot: int) -> list:
+    """What slot `slot`'s open card says under its inputs (nothing for an empty slot)."""
+    return card_status(card_status_spec(state, slot)) if slot in state.slots() else []
+
+
 def _reference_options(state: codec.LinkState) -> list[dict]:
     return [{"label": f"m{m.slot}: {m.name}", "value": m.slot} for m in state.models]
 
 
-def register(app) -> None:
-    """Attach every callback to `app` (called by the factory)."""
+def register(app, tool_options: dict) -> None:
+    """Attach every callback to `app` (called by the factory); `tool_options` are the data
+    tools' texts and defaults (`layouts.data_panel.data_tools_body`), built when the Data tab
+    first opens."""
 
     @app.callback(
         Output(ids.url, "search"),
         Output(ids.card_body(ALL), "children"),
+        Output(ids.card_body(ALL), "className"),
         Output(ids.shells, "data"),
         Output(ids.tab, "data"),
         Output(ids.reference, "value"),
@@ -98,31 +115,49 @@ def register(app) -> None:
         Input(ids.remove(ALL), "n_clicks"),
         Input(ids.duplicate(ALL), "n_clicks"),
         Input(ids.preset(ALL), "value"),
-        State(ids.card_body(ALL), "id"),
+        State(ids.card_body(ALL), "className"),
     )
     def sync(search, _params, _views, tab, reference, zmax, *_rest):
         current = codec.decode(search or "")
         trigger = ctx.triggered_id
-        slots = [item["slot"] for item in _rest[-1]]
+        slots = [item["id"]["slot"] for item in ctx.states_list[-1]]
+        # the cards built so far (a card is built when its chip first opens it: `fill_card`)
+        built = {k for k, name in zip(slots, _rest[-1]) if name == BODY_CLASSES["filled"]}
         view_keys = [item["id"]["key"] for item in ctx.outputs_list[-1]]
         unchanged_views = [no_update] * len(view_keys)
-        nothing = (no_update, [no_update] * len(slots)) + (no_update,) * 5 + (unchanged_views,)
+        unchanged_cards = [no_update] * len(slots)
+        nothing = (no_update, unchanged_cards, unchanged_cards) + (no_update,) * 5 + (unchanged_views,)
 
-        def from_link(state):
-            # Back, Forward or a link opened: every input shows the link's value
-            return (no_update, _card_bodies(state, slots), _shells(state), state.view.tab,
+        def cards_for(changed):
+            """Bodies and classes of the built cards in `changed` ({slot: card or None})."""
+            bodies = [_card_body(changed[k]) if k in changed else no_update for k in slots]
+            return bodies, [_body_class(changed[k]) if k in changed else no_update for k in slots]
+
+        def from_link(state, refresh):
+            # Back, Forward or a link opened: the views and the built cards in `refresh` show the
+            # link's values
+            specs = _card_specs(state)
+            bodies, classes = cards_for({k: specs.get(k) for k in refresh})
+            return (no_update, bodies, classes, _shells(state), state.view.tab,
                     codec.reference_slot(state), _reference_options(state), state.view.value_text("zmax"),
                     [state.view.value_text(k) for k in view_keys])
 
         def write(old, new, opened=None):
-            # only the cards whose content changed are sent again: text typed in another card stays
+            # only the built cards whose content changed are sent again (and the card to open):
+            # text typed in another card stays
             before, after = _card_specs(old), _card_specs(new)
-            bodies = [no_update if before.get(k) == after.get(k) else _card_body(after.get(k)) for k in slots]
-            return ("?" + codec.encode(new), bodies, _shells(new, opened), no_update,
+            changed = {k: after.get(k) for k in slots
+                       if (k in built or k == opened) and (k not in built or before.get(k) != after.get(k))}
+            bodies, classes = cards_for(changed)
+            return ("?" + codec.encode(new), bodies, classes, _shells(new, opened), no_update,
                     codec.reference_slot(new), _reference_options(new), no_update, unchanged_views)
 
-        if trigger is None or trigger == ids.url:
-            return from_link(current)
+        if trigger is None:
+            # the page loaded, or inputs were just inserted (a card built, a panel drawn): the
+            # inputs show the link already, and no card is sent again
+            return from_link(current, set())
+        if trigger == ids.url:
+            return from_link(current, built)
         value = ctx.triggered[0]["value"] if ctx.triggered else None
         button = isinstance(trigger, dict) and trigger.get("type") in ("fd-remove", "fd-duplicate", "fd-preset")
         if button or trigger == ids.add:
@@ -139,35 +174,62 @@ def register(app) -> None:
         if codec.encode(new) == codec.encode(current):
             return nothing
         # the inputs already show what was typed: only the link and the reference list change
-        return ("?" + codec.encode(new), [no_update] * len(slots), no_update, no_update, no_update,
+        return ("?" + codec.encode(new), unchanged_cards, unchanged_cards, no_update, no_update, no_update,
                 _reference_options(new) if trigger != ids.reference else no_update, no_update, unchanged_views)
+
+    @app.callback(
+        Output(ids.card_body(ALL), "children", allow_duplicate=True),
+        Output(ids.card_body(ALL), "className", allow_duplicate=True),
+        Output(ids.status(ALL), "children", allow_duplicate=True),
+        Input(ids.build_card, "data"),
+        State(ids.url, "search"),
+        prevent_initial_call=True,
+    )
+    def build_card(request, search):
+        """Build a card and its status the first time its chip opens it (``fd.shells`` asks,
+        with ``{"slot": n}``; `sync` and `summaries` keep them up to date from then on)."""
+        slots = [item["id"]["slot"] for item in ctx.outputs_list[0]]
+        state = codec.decode(search or "")
+        card = _card_specs(state).get((request or {}).get("slot"))
+        if card is None:
+            return ([no_update] * len(slots),) * 3
+        k = card["slot"]
+        return ([_card_body(card) if j == k else no_update for j in slots],
+                [_body_class(card) if j == k else no_update for j in slots],
+                [_status(state, k) if j == k else no_update for j in slots])
 
     @app.callback(
         Output(ids.chip(ALL), "children"),
         Output(ids.status(ALL), "children"),
         Output(ids.add, "disabled"),
         Output(ids.add_reason, "children"),
-        Input(ids.url, "search"),
+        Input(ids.url, "href"),
         State(ids.chip(ALL), "id"),
+        State(ids.card_body(ALL), "className"),
     )
-    def summaries(search, chip_ids):
-        """Each slot's chip and status, and whether "+ add model" can act (with the reason)."""
-        state = codec.decode(search or "")
+    def summaries(href, chip_ids, bodies):
+        """Each slot's chip, the status of each built card, and whether "+ add model" can act
+        (with the reason)."""
+        state = codec.decode(_search(href))
         summary = chips(state)
         slots = [item["slot"] for item in chip_ids]
+        built = {item["id"]["slot"] for item, name in zip(ctx.states_list[1], bodies)
+                 if name == BODY_CLASSES["filled"]}
         full = len(state.models) >= codec.MAX_SLOTS
         return ([chip(summary[k]) if k in summary else [] for k in slots],
-                [card_status(card_status_spec(state, k)) if k in summary else [] for k in slots],
+                [_status(state, k) if k in built or k not in summary else no_update for k in slots],
                 full, f"all {codec.MAX_SLOTS} slots in use" if full else "")
 
     # browser-side: chips open their cards, tabs, copy link (layouts/assets/page.js)
     app.clientside_callback(
         ClientsideFunction("fd", "shells"),
         Output(ids.slot(ALL), "className"),
+        Output(ids.build_card, "data"),
         Input(ids.chip(ALL), "n_clicks"),
         Input(ids.shells, "data"),
         State(ids.slot(ALL), "className"),
         State(ids.slot(ALL), "id"),
+        State(ids.card_body(ALL), "className"),
     )
     app.clientside_callback(
         ClientsideFunction("fd", "expanded"),
@@ -202,15 +264,14 @@ def register(app) -> None:
         Output(ids.notice_box, "style"),
         Output(ids.link_text, "value"),
         Output(ids.data_tools, "style"),
-        Output(ids.data_tools_details, "open"),
-        Output(ids.fit_slot, "options"),
-        Output(ids.fit_slot, "value"),
-        Input(ids.url, "search"),
-        State(ids.url, "href"),
-        State(ids.fit_slot, "value"),
+        Output(ids.data_tools, "children"),
+        Output(ids.data_tools, "className"),
+        Input(ids.url, "href"),
+        State(ids.data_tools, "className"),
     )
-    def render(search, href, fit_slot):
-        state = codec.decode(search or "")
+    def render(href, tools_class):
+        search = _search(href)
+        state = codec.decode(search)
         comparison = compare(state)
         try:
             body = panel_body(panel(comparison))
@@ -224,14 +285,31 @@ def register(app) -> None:
             f"{p.message} (the default is shown instead)" for p in state.view.problems()]
         box = {"display": "block"} if (dropped or state.unknown) else {"display": "none"}
         base = (href or "").split("?")[0]
-        tools = {"display": "block"} if state.view.tab == "data" else {"display": "none"}
+        on_data = state.view.tab == "data"
+        tools = {"display": "block"} if on_data else {"display": "none"}
+        # the data tools are built the first time the Data tab opens, and kept
+        build = on_data and tools_class != TOOLS_CLASSES["built"]
+        return (body, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
+                data_tools_body(tool_options) if build else no_update,
+                TOOLS_CLASSES["built"] if build else no_update)
+
+    @app.callback(
+        Output(ids.data_tools_details, "open"),
+        Output(ids.fit_slot, "options"),
+        Output(ids.fit_slot, "value"),
+        Input(ids.url, "href"),
+        State(ids.fit_slot, "value"),
+    )
+    def tools_view(href, fit_slot):
+        """The data tools follow the link (Dash calls this only once the tools are built, and
+        again when they are: their outputs are not in the page before)."""
+        state = codec.decode(_search(href))
         # the tools are open while the link has no measurements it can load; once a set is in it, the results
         # come first (React only touches the element when this value changes, so a block the
         # reader opened or closed stays so while the link keeps or keeps lacking its data)
-        tools_open = measurements(comparison)[0] is None
+        tools_open = measurements(compare(state))[0] is None
         slots = state.slots()
-        return (body, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
-                tools_open, _reference_options(state),
+        return (tools_open, _reference_options(state),
                 fit_slot if fit_slot in slots else codec.reference_slot(state))
 
     @app.callback(
@@ -327,12 +405,12 @@ def register(app) -> None:
         Output(ids.fit_load, "disabled"),
         Output(ids.fit_load, "children"),
         Output(ids.fit_load_reason, "children"),
-        Input(ids.url, "search"),
+        Input(ids.url, "href"),
         Input(ids.fit_store, "data"),
     )
-    def tool_buttons(search, fit):
+    def tool_buttons(href, fit):
         """The fit, map and load buttons are enabled only when they can act, the reason beside them."""
-        s = data_tools.button_states(codec.decode(search or ""), fit)
+        s = data_tools.button_states(codec.decode(_search(href)), fit)
         return bool(s["fit"]), s["fit"], bool(s["map"]), s["map"], bool(s["load"]), s["load_label"], s["load"]
 
     @app.callback(

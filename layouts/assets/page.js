@@ -11,14 +11,15 @@
     // The slot shells' classes (SHELL_CLASSES in layouts/cards.py): a chip click opens its card
     // and closes the others (a second click closes it); the server's {"filled", "open"} says
     // which slots hold a model and which card to open (one just added, copied or preset).
-    shells: function (clicks, shells, names, ids) {
+    // Second output: {"slot": n} when the card opened has not been built yet (BODY_CLASSES).
+    shells: function (clicks, shells, names, ids, bodies) {
       var ctx = window.dash_clientside.callback_context;
       var trigger = ctx.triggered_id;
       var opened = names.map(function (n) { return classes(n).indexOf("fd-open") >= 0; });
       var filled = names.map(function (n) { return classes(n).indexOf("fd-empty") < 0; });
       if (trigger && trigger.type === "fd-chip") {
         var k = ids.map(function (id) { return id.slot; }).indexOf(trigger.slot);
-        if (k < 0 || !filled[k]) { return noUpdate(); }
+        if (k < 0 || !filled[k]) { return [noUpdate(), noUpdate()]; }
         var now = !opened[k];
         opened = opened.map(function () { return false; });
         opened[k] = now;
@@ -29,11 +30,15 @@
           return opened[i] && filled[i];
         });
       } else {
-        return noUpdate();
+        return [noUpdate(), noUpdate()];
       }
-      return ids.map(function (id, i) {
-        return !filled[i] ? "fd-slot fd-empty" : (opened[i] ? "fd-slot fd-open" : "fd-slot");
+      var build = noUpdate();
+      ids.forEach(function (id, i) {
+        if (opened[i] && filled[i] && classes(bodies[i]).indexOf("fd-filled") < 0) { build = {slot: id.slot}; }
       });
+      return [ids.map(function (id, i) {
+        return !filled[i] ? "fd-slot fd-empty" : (opened[i] ? "fd-slot fd-open" : "fd-slot");
+      }), build];
     },
     expanded: function (className) {
       return classes(className).indexOf("fd-open") >= 0 ? "true" : "false";

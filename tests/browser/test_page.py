@@ -106,8 +106,12 @@ def test_input_updates_link_reload_restores_and_back_returns(dash_duo, app_facto
 
     dash_duo.driver.get(changed)  # reload the link as someone else would open it
     dash_duo.wait_for_element(".fd-chip .fd-chip-label")
+    # a card is built when its chip first opens it, from the link
+    assert dash_duo.driver.find_elements(By.CSS_SELECTOR, ".fd-card-body input") == []
+    open_card(dash_duo, 1)
     wait_until(dash_duo, lambda d: param_input(dash_duo, 1, "h0").get_attribute("value") == "71.5")
-    assert param_input(dash_duo, 2, "label").get_attribute("value") == "Beta"
+    open_card(dash_duo, 2)
+    wait_until(dash_duo, lambda d: param_input(dash_duo, 2, "label").get_attribute("value") == "Beta")
 
     dash_duo.driver.back()
     wait_until(dash_duo, lambda d: "m1.h0=67" in d.current_url)
@@ -121,7 +125,8 @@ def test_hostile_label_is_text_everywhere(dash_duo, app_factory):
     open_link(dash_duo, app_factory(), query)
     dash_duo.wait_for_element(".legendtext")
     wait_until(dash_duo, lambda d: any(HOSTILE in e.text for e in d.find_elements(By.CSS_SELECTOR, ".legendtext")))
-    assert param_input(dash_duo, 2, "label").get_attribute("value") == HOSTILE
+    open_card(dash_duo, 2)
+    wait_until(dash_duo, lambda d: param_input(dash_duo, 2, "label").get_attribute("value") == HOSTILE)
     dash_duo.wait_for_contains_text("#fd-reference", HOSTILE)
     # hover labels and annotations use the same escaped names; no markup made it into the page
     assert dash_duo.driver.find_elements(By.CSS_SELECTOR, "img[src='x']") == []
@@ -195,6 +200,7 @@ def test_chip_opens_its_card_escape_closes_and_edits_redraw_that_card_only(dash_
     open_link(dash_duo, app_factory(), "m1.label=Alpha&m2.label=Beta&tab=time")
     chip = by_id(dash_duo, {"type": "fd-chip", "slot": 2})
     assert chip.get_attribute("aria-expanded") == "false"
+    open_card(dash_duo, 1)  # built, then kept while closed
     open_card(dash_duo, 2)
     wait_until(dash_duo, lambda d: by_id(dash_duo, {"type": "fd-chip", "slot": 2}).get_attribute("aria-expanded") == "true")
     # a preset applied to card 2 leaves card 1's inputs alone (the same elements, not redrawn)

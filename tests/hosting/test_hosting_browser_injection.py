@@ -53,8 +53,13 @@ def test_injection_labels_are_shown_as_typed_and_never_run(dash_duo, app_factory
     dash_duo.wait_for_element(".legendtext")
     driver = dash_duo.driver
     for n, text in enumerate(INJECTIONS, start=1):
-        box = driver.find_element(By.XPATH, f"//*[@id='{_dom_id({'key': 'label', 'slot': n, 'type': 'fd-param'})}']")
-        assert box.get_attribute("value") == text
+        # the chip shows the label as text; its card (built when the chip opens it) as the input's value
+        chip = driver.find_element(By.XPATH, f"//*[@id='{_dom_id({'slot': n, 'type': 'fd-chip'})}']")
+        _wait(dash_duo, lambda d: text in chip.text)
+        chip.click()
+        path = f"//*[@id='{_dom_id({'key': 'label', 'slot': n, 'type': 'fd-param'})}']"
+        _wait(dash_duo, lambda d: d.find_elements(By.XPATH, path)
+              and d.find_element(By.XPATH, path).get_attribute("value") == text)
     _wait(dash_duo, lambda d: all(any(t in e.text for e in d.find_elements(By.CSS_SELECTOR, ".legendtext"))
                                   for t in INJECTIONS))
     _assert_inert(driver)

@@ -10,6 +10,7 @@ from pathlib import Path
 
 import pytest
 
+from benchmarks._serving import page_update_payload
 from layouts.ids import ids
 from server.format_page import markdown_to_html
 
@@ -18,15 +19,14 @@ SOURCE = (ROOT / "docs" / "measurements-format.md").read_text(encoding="utf-8")
 HEADINGS = [m.group(2) for m in re.finditer(r"^(#{1,6}) (.+)$", SOURCE, re.M)]
 
 
-def _find(component, wanted):
-    if getattr(component, "id", None) == wanted:
-        return component
-    children = getattr(component, "children", None)
-    for child in children if isinstance(children, (list, tuple)) else [children]:
-        if child is not None and not isinstance(child, (str, int, float)):
-            found = _find(child, wanted)
-            if found is not None:
-                return found
+def _find_json(node, wanted):
+    """The component with id `wanted` in a callback answer's JSON."""
+    if isinstance(node, dict):
+        if node.get("props", {}).get("id") == wanted:
+            return node
+        node = list(node.values())
+    if isinstance(node, list):
+        return next((found for child in node if (found := _find_json(child, wanted)) is not None), None)
     return None
 
 
@@ -39,8 +39,13 @@ def test_the_page_answers_with_every_heading_and_the_tab_links_to_it(app_factory
     assert HEADINGS and all(h in body for h in HEADINGS)
     assert "<h1>Measurement tables</h1>" in body and "<table>" in body and "<pre><code>" in body
     assert f'href="{prefix}"' in body  # back to the desk
-    link = _find(app.layout, ids.format_link)
-    assert link is not None and link.href == prefix + "format"
+    # the Data tab's tools (built when the tab opens) link to it
+    deps = app.server.test_client().get(prefix + "_dash-dependencies").get_json()
+    answer = app.server.test_client().post(prefix + "_dash-update-component",
+                                           json=page_update_payload(deps, "?tab=data", f"http://localhost{prefix}"))
+    tools = answer.get_json()["response"][ids.data_tools]["children"]
+    link = _find_json(tools, ids.format_link)
+    assert link is not None and link["props"]["href"] == prefix + "format"
 
 
 def test_no_page_outside_the_prefix(app_factory):

@@ -10,7 +10,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 PANEL_OUTPUT = ("..fd-panel.children...fd-notice.children...fd-notice-box.style...fd-link-text.value..."
-                "fd-data-tools.style...fd-data-tools-details.open...fd-fit-slot.options...fd-fit-slot.value..")
+                "fd-data-tools.style...fd-data-tools.children...fd-data-tools.className..")
 
 
 @pytest.fixture(scope="module")
@@ -26,12 +26,14 @@ def client(app):
 
 
 def panel_update(search="?m1.h0=70", href="http://localhost/"):
+    """The body the page posts to draw the panel: it listens to the whole address (`href`,
+    holding `search`)."""
     outputs = [dict(zip(("id", "property"), part.rsplit(".", 1))) for part in PANEL_OUTPUT.strip(".").split("...")]
+    address = href + search if isinstance(href, str) and isinstance(search, str) else href
     return {"output": PANEL_OUTPUT, "outputs": outputs,
-            "inputs": [{"id": "fd-url", "property": "search", "value": search}],
-            "state": [{"id": "fd-url", "property": "href", "value": href},
-                      {"id": "fd-fit-slot", "property": "value", "value": None}],
-            "changedPropIds": ["fd-url.search"]}
+            "inputs": [{"id": "fd-url", "property": "href", "value": address}],
+            "state": [{"id": "fd-data-tools", "property": "className", "value": "fd-tools"}],
+            "changedPropIds": ["fd-url.href"]}
 
 
 def post_update(client, body):
@@ -44,7 +46,7 @@ MALFORMED = [
     (json.dumps({"output": "nosuch.children", "inputs": [], "changedPropIds": []}), "output"),
     ("[" * 100_000 + "]" * 100_000, "nested"), ("not json", "not JSON"),
     (json.dumps(panel_update(href=5)), "href must be text"),
-    (json.dumps(panel_update(search=["?m1.h0=70"])), "search must be text"),
+    (json.dumps(panel_update(href=["http://localhost/?m1.h0=70"])), "href must be text"),
     (json.dumps({**panel_update(), "inputs": []}), "inputs"),
     (json.dumps({**panel_update(), "inputs": [{"id": "fd-url", "property": "hash", "value": ""}]}), "inputs[0]"),
     (json.dumps({**panel_update(), "outputs": []}), "could not be applied"),
