@@ -248,9 +248,10 @@ def page_update_payload(dependencies: list[dict], search: str, href: str = "http
     callback's current outputs and states)."""
     dep = next(d for d in dependencies if "fd-panel.children" in d["output"])
 
-    def spec(text: str) -> dict:
+    def spec(text: str):
         ident, prop = text.rsplit(".", 1)
-        return {"id": ident, "property": prop}
+        # a pattern-matching output (the panel's figures) matches nothing in a fresh page
+        return [] if ident.startswith("{") else {"id": ident, "property": prop}
 
     outputs = [spec(part) for part in dep["output"].strip(".").split("...")]
     # the panel listens to the whole address (server/callbacks.py), `href` with `search` in it

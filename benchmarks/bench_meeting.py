@@ -6,8 +6,8 @@ Targets (meeting-room issue): the first figure within the first screen at 1280×
 1.5 screens at 1024×768; a four-model link draws its open tab in ≤ 1.0 s and one edit redraws
 in ≤ 0.4 s, both medians of five with the server's cache warm.
 
-"Drawn" means every Plotly figure (or table) of the open panel is in the DOM with its traces
-and no loading spinner is up, measured from the navigation request (draw) or from the Enter
+"Drawn" means every figure (or table) of the open panel is in the DOM with its traces drawn by
+Plotly and no loading spinner is up, measured from the navigation request (draw) or from the Enter
 key in the edited input (edit).
 """
 
@@ -25,13 +25,14 @@ _DRAWN = """
 const panel = document.getElementById('fd-panel');
 if (!panel || document.querySelector('._dash-loading')) return false;
 if (document.querySelector('[data-dash-is-loading="true"]')) return false;
-const plots = panel.querySelectorAll('.js-plotly-plot');
+const graphs = panel.querySelectorAll('.fd-graph');
 const tables = panel.querySelectorAll('table, .fd-grid');
-if (plots.length === 0 && tables.length === 0) return false;
+if (graphs.length === 0 && tables.length === 0) return false;
 for (const g of panel.querySelectorAll('.fd-grid')) { if (!g.querySelector('.ag-row')) return false; }
 const before = window.__fdBefore || [];
-for (const p of plots) {
-  if (!p.querySelector('.main-svg') || !(p._fullData && p._fullData.length)) return false;
+for (const g of graphs) {  // every figure of the panel, not only those Plotly has started on
+  const p = g.querySelector('.js-plotly-plot');
+  if (!p || !p.querySelector('.main-svg') || !(p._fullData && p._fullData.length)) return false;
   if (before.includes(p.data)) return false;
 }
 return true;

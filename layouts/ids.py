@@ -22,6 +22,7 @@ class _Ids:
     tab = "fd-tab"
     zmax = "fd-zmax"
     panel = "fd-panel"
+    panel_key = "fd-panel-key"
     notice = "fd-notice"
     notice_close = "fd-notice-close"
     notice_box = "fd-notice-box"
@@ -102,6 +103,11 @@ class _Ids:
     @staticmethod
     def duplicate(slot: int) -> dict:
         return {"type": "fd-duplicate", "slot": slot}
+
+    @staticmethod
+    def graph(name: str) -> dict:
+        """A figure of the open panel (`name`: its block's id without ``fd-fig-``)."""
+        return {"type": "fd-graph", "name": name}
 
     @staticmethod
     def preset(slot: int) -> dict:

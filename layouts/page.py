@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+import hashlib
+
+import plotly.io
 from dash import dcc, html
 
 from layouts.data_panel import data_tools
@@ -86,6 +89,7 @@ def page(options: PageOptions) -> html.Div:
             dcc.Download(id=ids.download_panel_file),
         ]),
         dcc.Loading(html.Div(id=ids.panel, className="fd-panel", role="tabpanel"), type="dot", delay_show=400),
+        dcc.Store(id=ids.panel_key, data=""),  # what the panel shows, but for its figures (`render`)
         data_tools(),
     ])
 
@@ -144,13 +148,43 @@ EXPORTS = (("svg", "SVG", "vector file of this figure as shown (for papers)"),
 def _graph(block: dict) -> html.Figure:
     name = (block.get("id") or "figure").removeprefix("fd-fig-")
     drawn = figure(block["spec"]) if block["kind"] == "figure" else small_multiples(block["spec"])
-    return html.Figure(className="fd-figure", **{"data-fd-name": f"friedmann-desk-{name}"}, children=[
-        dcc.Graph(figure=drawn, id=block.get("id"), className="fd-graph",
+    # the figure element keeps the block's id for pages and tests to find it; the graph has a
+    # pattern-matching id, so that `render` can redraw the panel's figures in place
+    return html.Figure(id=block.get("id") or f"fd-fig-{name}", className="fd-figure",
+                       **{"data-fd-name": f"friedmann-desk-{name}"}, children=[
+        dcc.Graph(figure=drawn, id=ids.graph(name), className="fd-graph",
                   config=graph_config(f"friedmann-desk-{name}")),
         html.Div(className="fd-exports", children=[html.Span("save:", className="fd-exports-label")] + [
             html.Button(label, type="button", title=title, className="fd-button fd-small",
                         **{"data-fd-export": key}) for key, label, title in EXPORTS]),
     ])
+
+
+def panel_figures(children: list) -> tuple[str, dict[str, object]]:
+    """What a drawn panel (`panel_body`'s answer) shows apart from its figures, as a digest, and
+    its figures by graph name. Two panels with the same digest differ in their figures only, so
+    the page can redraw those in place (Plotly.react) instead of building the panel again."""
+    graphs = []
+
+    def walk(node):
+        if isinstance(node, dcc.Graph) and isinstance(getattr(node, "id", None), dict):
+            graphs.append(node)
+        kids = getattr(node, "children", None)
+        for child in kids if isinstance(kids, (list, tuple)) else [kids]:
+            if child is not None and not isinstance(child, (str, int, float)):
+                walk(child)
+
+    for node in children:
+        walk(node)
+    figures = {graph.id["name"]: graph.figure for graph in graphs}
+    try:
+        for graph in graphs:
+            graph.figure = None
+        text = plotly.io.json.to_json_plotly(children)
+    finally:
+        for graph in graphs:
+            graph.figure = figures[graph.id["name"]]
+    return hashlib.sha256(text.encode()).hexdigest()[:32], figures
 
 
 def panel_body(body: PanelSpec) -> list:

@@ -14,15 +14,17 @@ from __future__ import annotations
 import base64
 import binascii
 import dataclasses
+import json
 import logging
 import urllib.parse
 
+import plotly.io
 from dash import ALL, MATCH, ClientsideFunction, Input, Output, State, ctx, dcc, no_update
 
 from layouts.cards import BODY_CLASSES, card_status, chip, model_card
 from layouts.data_panel import TOOLS_CLASSES, data_tools_body, fit_report, map_view, messages
 from layouts.ids import ids
-from layouts.page import notice, panel_body
+from layouts.page import notice, panel_body, panel_figures
 import model
 from server import codec, data_store, state as states
 from server.cache import BudgetExceeded
@@ -79,6 +81,12 @@ def _shells(state: codec.LinkState, opened: int | None = None) -> dict:
     """What the slot shells show (read by ``fd.shells`` in layouts/assets/page.js): the filled
     slots, and the one to open (a model just added, copied or given a preset)."""
     return {"filled": list(state.slots()), "open": opened}
+
+
+def _same_json(components, shown) -> bool:
+    """Whether `components` are what the page shows (`shown`: the same property as Dash sent
+    it back), so that sending them again would redraw nothing."""
+    return json.loads(plotly.io.json.to_json_plotly(components)) == shown
 
 
 def _status(state: codec.LinkState, slot: int) -> list:
@@ -204,19 +212,20 @@ def register(app, tool_options: dict) -> None:
         Output(ids.add, "disabled"),
         Output(ids.add_reason, "children"),
         Input(ids.url, "href"),
-        State(ids.chip(ALL), "id"),
+        State(ids.chip(ALL), "children"),
         State(ids.card_body(ALL), "className"),
     )
-    def summaries(href, chip_ids, bodies):
-        """Each slot's chip, the status of each built card, and whether "+ add model" can act
-        (with the reason)."""
+    def summaries(href, shown, bodies):
+        """Each slot's chip (sent only when it changed), the status of each built card, and
+        whether "+ add model" can act (with the reason)."""
         state = codec.decode(_search(href))
         summary = chips(state)
-        slots = [item["slot"] for item in chip_ids]
+        slots = [item["id"]["slot"] for item in ctx.states_list[0]]
         built = {item["id"]["slot"] for item, name in zip(ctx.states_list[1], bodies)
                  if name == BODY_CLASSES["filled"]}
         full = len(state.models) >= codec.MAX_SLOTS
-        return ([chip(summary[k]) if k in summary else [] for k in slots],
+        new_chips = [chip(summary[k]) if k in summary else [] for k in slots]
+        return ([no_update if _same_json(new, old) else new for new, old in zip(new_chips, shown)],
                 [_status(state, k) if k in built or k not in summary else no_update for k in slots],
                 full, f"all {codec.MAX_SLOTS} slots in use" if full else "")
 
@@ -266,10 +275,13 @@ def register(app, tool_options: dict) -> None:
         Output(ids.data_tools, "style"),
         Output(ids.data_tools, "children"),
         Output(ids.data_tools, "className"),
+        Output(ids.graph(ALL), "figure"),
+        Output(ids.panel_key, "data"),
         Input(ids.url, "href"),
         State(ids.data_tools, "className"),
+        State(ids.panel_key, "data"),
     )
-    def render(href, tools_class):
+    def render(href, tools_class, shown):
         search = _search(href)
         state = codec.decode(search)
         comparison = compare(state)
@@ -279,6 +291,14 @@ def register(app, tool_options: dict) -> None:
             logger.exception("panel %s failed for %r", state.view.tab, search)
             body = panel_body({"blocks": [{"kind": "text", "tone": "error",
                                            "text": f"This panel could not be drawn: {err}"}]})
+        # a panel that differs from the one shown in its figures only (an edit, a unit) keeps
+        # its elements: only the figures are sent, and Plotly redraws them in place
+        key, figures = panel_figures(body)
+        present = [item["id"]["name"] for item in ctx.outputs_list[-2]]
+        if key == shown and present == list(figures):
+            children, redrawn, key = no_update, [figures[name] for name in present], no_update
+        else:
+            children, redrawn = body, [no_update] * len(present)
         # dropped keys, and view values that could not be used (the default is drawn instead,
         # while the control still shows what was typed)
         dropped = [p.message for p in state.notices] + [
@@ -289,9 +309,9 @@ def register(app, tool_options: dict) -> None:
         tools = {"display": "block"} if on_data else {"display": "none"}
         # the data tools are built the first time the Data tab opens, and kept
         build = on_data and tools_class != TOOLS_CLASSES["built"]
-        return (body, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
+        return (children, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
                 data_tools_body(tool_options) if build else no_update,
-                TOOLS_CLASSES["built"] if build else no_update)
+                TOOLS_CLASSES["built"] if build else no_update, redrawn, key)
 
     @app.callback(
         Output(ids.data_tools_details, "open"),

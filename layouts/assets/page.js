@@ -72,6 +72,34 @@
   };
   window.dash_clientside = Object.assign({}, window.dash_clientside, {fd: fd});
 
+  // dcc.Graph resizes every figure once right after its first drawing, and Plotly's resize is a
+  // full redraw even when the size is what it was: on a four-figure panel that doubled the
+  // drawing time. A resize that would not change the figure's size is skipped (Plotly sizes an
+  // autosized figure to its element's computed width, and to its layout height when one is set).
+  function unchanged(gd) {
+    var full = gd && gd._fullLayout, layout = gd && gd.layout;
+    if (!full || !layout || layout.autosize === false || layout.width) { return false; }
+    var style = window.getComputedStyle(gd);
+    var width = parseFloat(style.width), height = layout.height || parseFloat(style.height);
+    return Math.round(width) === Math.round(full.width) && Math.round(height) === Math.round(full.height);
+  }
+  function patchResize(plotly) {
+    var plots = plotly && plotly.Plots;
+    if (!plots || !plots.resize || plots.resize.fdSkipsUnchanged) { return; }
+    var resize = plots.resize;
+    plots.resize = function (gd) {
+      var el = typeof gd === "string" ? document.getElementById(gd) : gd;
+      return unchanged(el) ? Promise.resolve(el) : resize.apply(this, arguments);
+    };
+    plots.resize.fdSkipsUnchanged = true;
+  }
+  // plotly.js arrives later (with the first figure) and sets window.Plotly itself
+  if (window.Plotly) { patchResize(window.Plotly); } else {
+    var loaded;
+    Object.defineProperty(window, "Plotly", {configurable: true, enumerable: true,
+      get: function () { return loaded; }, set: function (value) { loaded = value; patchResize(value); }});
+  }
+
   // Arrow keys, Home and End move between the tabs and open the one reached (WAI-ARIA
   // Authoring Practices, "Tabs" pattern with automatic activation).
   document.addEventListener("keydown", function (event) {

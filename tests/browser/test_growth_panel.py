@@ -24,7 +24,7 @@ _FIGURES_JS = """
 return Array.from(document.querySelectorAll('#fd-panel .js-plotly-plot')).map(function (g) {
   var y = (g.layout.yaxis || {}).title || {};
   var x = (g.layout.xaxis || {}).title || {};
-  return {id: (g.closest('[id]') || g).id, names: g.data.map(function (t) { return t.name; }),
+  return {id: (g.closest('figure') || g).id, names: g.data.map(function (t) { return t.name; }),
           x: typeof x === 'string' ? x : (x.text || ''), y: typeof y === 'string' ? y : (y.text || ''),
           first: (g.calcdata && g.calcdata[0] || []).map(function (p) { return p.x; }),
           firstY: (g.calcdata && g.calcdata[0] || []).map(function (p) { return p.y; })};

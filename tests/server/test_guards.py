@@ -10,7 +10,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 PANEL_OUTPUT = ("..fd-panel.children...fd-notice.children...fd-notice-box.style...fd-link-text.value..."
-                "fd-data-tools.style...fd-data-tools.children...fd-data-tools.className..")
+                "fd-data-tools.style...fd-data-tools.children...fd-data-tools.className..."
+                '{"name":["ALL"],"type":"fd-graph"}.figure...fd-panel-key.data..')
 
 
 @pytest.fixture(scope="module")
@@ -28,11 +29,13 @@ def client(app):
 def panel_update(search="?m1.h0=70", href="http://localhost/"):
     """The body the page posts to draw the panel: it listens to the whole address (`href`,
     holding `search`)."""
-    outputs = [dict(zip(("id", "property"), part.rsplit(".", 1))) for part in PANEL_OUTPUT.strip(".").split("...")]
+    outputs = [[] if part.startswith("{") else dict(zip(("id", "property"), part.rsplit(".", 1)))
+               for part in PANEL_OUTPUT.strip(".").split("...")]  # no figure shown yet
     address = href + search if isinstance(href, str) and isinstance(search, str) else href
     return {"output": PANEL_OUTPUT, "outputs": outputs,
             "inputs": [{"id": "fd-url", "property": "href", "value": address}],
-            "state": [{"id": "fd-data-tools", "property": "className", "value": "fd-tools"}],
+            "state": [{"id": "fd-data-tools", "property": "className", "value": "fd-tools"},
+                      {"id": "fd-panel-key", "property": "data", "value": ""}],
             "changedPropIds": ["fd-url.href"]}
 
 
