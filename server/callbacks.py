@@ -83,6 +83,12 @@ def _shells(state: codec.LinkState, opened: int | None = None) -> dict:
     return {"filled": list(state.slots()), "open": opened}
 
 
+def _built_slots(bodies: list[dict], classes: list) -> set[int]:
+    """The slots whose card has been built (`bodies`: the ``states_list`` entry of the card
+    bodies' ``className``, `classes` their values)."""
+    return {item["id"]["slot"] for item, name in zip(bodies, classes) if name == BODY_CLASSES["filled"]}
+
+
 def _same_json(components, shown) -> bool:
     """Whether `components` are what the page shows (`shown`: the same property as Dash sent
     it back), so that sending them again would redraw nothing."""
@@ -129,8 +135,8 @@ def register(app, tool_options: dict) -> None:
         current = codec.decode(search or "")
         trigger = ctx.triggered_id
         slots = [item["id"]["slot"] for item in ctx.states_list[-1]]
-        # the cards built so far (a card is built when its chip first opens it: `fill_card`)
-        built = {k for k, name in zip(slots, _rest[-1]) if name == BODY_CLASSES["filled"]}
+        # the cards built so far (a card is built when its chip first opens it: `build_card`)
+        built = _built_slots(ctx.states_list[-1], _rest[-1])
         view_keys = [item["id"]["key"] for item in ctx.outputs_list[-1]]
         unchanged_views = [no_update] * len(view_keys)
         unchanged_cards = [no_update] * len(slots)
@@ -221,8 +227,7 @@ def register(app, tool_options: dict) -> None:
         state = codec.decode(_search(href))
         summary = chips(state)
         slots = [item["id"]["slot"] for item in ctx.states_list[0]]
-        built = {item["id"]["slot"] for item, name in zip(ctx.states_list[1], bodies)
-                 if name == BODY_CLASSES["filled"]}
+        built = _built_slots(ctx.states_list[1], bodies)
         full = len(state.models) >= codec.MAX_SLOTS
         new_chips = [chip(summary[k]) if k in summary else [] for k in slots]
         return ([no_update if _same_json(new, old) else new for new, old in zip(new_chips, shown)],
