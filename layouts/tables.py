@@ -1,9 +1,13 @@
 """Tables from `layouts.specs.TableBlock`-shaped data (text only: cells are plain strings or
 `Number`s written by `layouts.text.render`, never markup).
 
-Every table is one AG Grid component fed with its rows as data. As HTML the table panel's
-quantities at the link's redshifts (about 90 rows) would be about 800 ``html.Td`` components,
-which dominated the server's time for a cached update; a grid costs about the same for any size.
+A short table (at most `PLAIN_ROWS` rows: one row per model, as most panels have) is a plain
+HTML table. A longer one is one AG Grid component fed with its rows as data: as HTML the Table
+panel's quantities at the link's redshifts (about 90 rows) would be about 800 ``html.Td``
+components, which dominated the server's time for a cached update, while a grid costs about the
+same for any size. The grid is not used for every table because starting it in the browser costs
+more than a short table's few dozen cells: on the Energy budget panel (four models, one 4-row
+table) the plain table drew the panel 0.14 s sooner (bench_meeting, DEVELOPERS.md).
 A table in sections (rows under headings) shows each heading in a first column spanning its rows.
 """
 
@@ -15,10 +19,11 @@ from dash import html
 from layouts.palette import slot_colour
 from layouts.text import render
 
-__all__ = ["table"]
+__all__ = ["table", "PLAIN_ROWS"]
 
 _ROW_HEIGHT = 26
 _SECTION = "section"
+PLAIN_ROWS = 16
 
 
 # Column widths are set here from the longest text, not measured by the grid in the browser
@@ -65,6 +70,24 @@ def _grid(header: list[str], sections: list[tuple[str | None, list[list[str]]]],
         style={"width": "100%"})
 
 
+def _plain(header: list[str], sections: list[tuple[str | None, list[list[str]]]], column_slots: list) -> html.Table:
+    """The same table as `_grid` draws, as HTML: the first cell of each row names it (a row
+    header), the others hold numbers (right-aligned, ``fd-num``); a section's heading is a row
+    header spanning its rows."""
+    grouped = any(heading is not None for heading, _ in sections)
+    head = [html.Th(h, scope="col", style=_header_style(slot), className="fd-num" if i else None)
+            for i, (h, slot) in enumerate(zip(header, column_slots))]
+    if grouped:
+        head.insert(0, html.Th("", scope="col", style=_header_style(None)))
+    rows = []
+    for heading, cells in sections:
+        for k, row in enumerate(cells):
+            lead = [html.Th(heading, scope="rowgroup", rowSpan=len(cells))] if grouped and k == 0 else []
+            rows.append(html.Tr(lead + [html.Th(row[0] if row else "", scope="row")]
+                                + [html.Td(cell, className="fd-num") for cell in row[1:]]))
+    return html.Table([html.Thead(html.Tr(head)), html.Tbody(rows)], className="fd-plain")
+
+
 def table(header: list[str], rows: list[list] | None = None, sections: list[dict] | None = None,
           column_slots: list | None = None) -> html.Div:
     """`header` strings; `rows` of cells, or `sections` (``[{"heading", "rows"}]``).
@@ -72,4 +95,5 @@ def table(header: list[str], rows: list[list] | None = None, sections: list[dict
     slots = list(column_slots or []) + [None] * (len(header) - len(column_slots or []))
     parts = [(s["heading"], [[render(cell) for cell in row] for row in s["rows"]]) for s in sections] \
         if sections else [(None, [[render(cell) for cell in row] for row in rows or []])]
-    return html.Div(className="fd-table", children=_grid(header, parts, slots))
+    short = sum(len(rows) for _, rows in parts) <= PLAIN_ROWS
+    return html.Div(className="fd-table", children=(_plain if short else _grid)(header, parts, slots))
