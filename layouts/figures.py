@@ -255,35 +255,39 @@ def _title(text) -> dict:
 
 
 def _epoch_markers(markers: list[dict], xaxis: str, overlay: str, kinds: dict, grey: bool = False,
-                   shown: set | None = None) -> tuple[list[dict], list[dict]]:
-    """Epoch markers (equality, acceleration, today…) as a dotted vertical line plus one symbol
-    near the top of the plot, never as text on the plot: labels of nearby epochs would pile on
-    each other. Each kind of epoch has its own symbol and one legend entry (`kinds`: text ->
-    symbol, filled in order of appearance; `shown`: kinds already in the legend); the hover
-    names the epoch, its position and the model. Models' symbols are stacked a little apart
-    so four "today"s at nearly the same x stay four."""
+                   shown: set | None = None) -> list[dict]:
+    """Epoch markers (equality, acceleration, today…) as a dotted vertical line ending in one
+    symbol near the top of the plot, never as text on the plot: labels of nearby epochs would
+    pile on each other. Each kind of epoch has its own symbol and one legend entry (`kinds`:
+    text -> symbol, filled in order of appearance; `shown`: kinds already in the legend); the
+    hover names the epoch, its position and the model. Models' symbols are stacked a little
+    apart so four "today"s at nearly the same x stay four.
+
+    Line and symbol are one two-point trace on the invisible `overlay` axis (0 at the bottom of
+    the plot, 1 at the top; the symbol has size 0 at the foot), not a layout shape and a trace:
+    Plotly draws shapes one by one after the traces, and the Energy budget's 16 took it longer
+    than all its curves (DEVELOPERS.md, "Keeping the page fast")."""
     shown = set() if shown is None else shown
-    traces, shapes = [], []
+    traces = []
     for marker in markers:
         kind = marker["text"]
         symbol = kinds.setdefault(kind, EPOCH_SYMBOLS[len(kinds) % len(EPOCH_SYMBOLS)])
         slot = marker.get("slot")
         colour = "#444444" if grey or slot is None else slot_colour(slot)
-        shapes.append({"type": "line", "xref": xaxis, "yref": "paper", "x0": marker["x"], "x1": marker["x"],
-                       "y0": 0, "y1": 1, "layer": "below", "line": {"color": colour, "width": 1, "dash": "dot"}})
         height = 0.95 - 0.06 * ((slot or 1) - 1)
         name = escape_for_figure(kind)
         traces.append({
-            "type": "scatter", "mode": "markers", "x": [marker["x"]], "y": [height], "xaxis": xaxis,
-            "yaxis": overlay, "name": name, "legendgroup": f"epoch-{kind}", "showlegend": kind not in shown,
-            "cliponaxis": False, "marker": {"symbol": symbol, "size": 11, "color": colour,
-                                            "line": {"color": "white", "width": 1}},
+            "type": "scatter", "mode": "lines+markers", "x": [marker["x"], marker["x"]], "y": [height, 0.0],
+            "xaxis": xaxis, "yaxis": overlay, "name": name, "legendgroup": f"epoch-{kind}",
+            "showlegend": kind not in shown, "cliponaxis": False,
+            "line": {"color": colour, "width": 1, "dash": "dot"},
+            "marker": {"symbol": [symbol, "line-ns"], "size": 11, "color": colour, "line": {"color": "white", "width": 1}},
             "meta": escape_for_figure(marker.get("model", "")),
             "hovertemplate": f"{name}<br>{escape_for_figure(marker.get('x_hover', 'x'))} = %{{x:.5g}}"
                              + ("<extra>%{meta}</extra>" if marker.get("model") else "<extra></extra>"),
         })
         shown.add(kind)
-    return traces, shapes
+    return traces
 
 
 def _overlay_axis(over: str, domain: list[float]) -> dict:
@@ -341,12 +345,9 @@ def figure(spec: dict) -> dict:
         if strip.get("reference"):
             annotations.append(_strip_reference(strip))
     markers = [{**m, "x_hover": spec.get("x_hover", "x")} for m in spec.get("markers", [])]
-    shapes = []
     if markers:
-        traces, shapes = _epoch_markers(markers, "x", "y9", {})
-        data += traces
+        data += _epoch_markers(markers, "x", "y9", {})
         layout["yaxis9"] = _overlay_axis("y", main_domain)
-    layout["shapes"] = shapes
     layout["annotations"] = annotations
     return {"data": data, "layout": layout}
 
@@ -375,7 +376,7 @@ def small_multiples(spec: dict) -> dict:
     n = max(len(panels), 1)
     gap = 0.03
     width = (1.0 - gap * (n - 1)) / n
-    data, annotations, shapes, kinds, shown = [], [], [], {}, set()
+    data, annotations, kinds, shown = [], [], {}, set()
     layout = _base_layout(spec, 420)
     layout["margin"] = dict(MARGIN, t=70, b=MARGIN["b"] + 16)
     for i, panel in enumerate(panels):
@@ -407,12 +408,9 @@ def small_multiples(spec: dict) -> dict:
         if panel.get("markers"):
             overlay = str(10 + i)
             markers = [{**m, "x_hover": spec.get("x_hover", "x"), "model": panel["title"]} for m in panel["markers"]]
-            traces, lines = _epoch_markers(markers, f"x{suffix}", f"y{overlay}", kinds, grey=True, shown=shown)
-            data += traces
-            shapes += lines
+            data += _epoch_markers(markers, f"x{suffix}", f"y{overlay}", kinds, grey=True, shown=shown)
             layout[f"yaxis{overlay}"] = _overlay_axis(f"y{suffix}", [0.0, 1.0])
     layout["annotations"] = annotations
-    layout["shapes"] = shapes
     return {"data": data, "layout": layout}
 
 

@@ -68,3 +68,21 @@ def _walk_components(node, path=()):
     for i, child in enumerate(children if isinstance(children, list) else [children] if children is not None else []):
         if hasattr(child, "children") or hasattr(child, "id"):
             yield from _walk_components(child, path + (i,))
+
+
+def test_epoch_markers_are_one_trace_each_and_four_models_at_one_epoch_stay_apart():
+    x = np.array([0.0, 10.0, 20.0])
+    ages = [13.8, 13.79, 13.81, 13.8]  # four "today"s within 0.02 Gyr of each other
+    spec = {"title": "t", "x_title": "t [Gyr]", "y_title": "a", "x_hover": "t", "y_hover": "a", "unit": "",
+            "x_log": False, "strip": None,
+            "series": [{"name": f"m{s}", "role": "model", "slot": s, "x": x, "y": x} for s in range(1, 5)],
+            "markers": [{"x": age, "text": "today", "slot": s, "model": f"m{s}"} for s, age in enumerate(ages, 1)]}
+    drawn = figure(spec)
+    assert not drawn["layout"].get("shapes")
+    epochs = [t for t in drawn["data"] if t.get("legendgroup") == "epoch-today"]
+    assert [t["x"] for t in epochs] == [[age, age] for age in ages]
+    tops = [t["y"][0] for t in epochs]
+    assert len(set(tops)) == 4 and all(0 < top <= 1 for top in tops) and all(t["y"][1] == 0 for t in epochs)
+    assert [t["showlegend"] for t in epochs] == [True, False, False, False]
+    assert [t["line"]["color"] for t in epochs] == [slot_colour(s) for s in range(1, 5)]
+    assert drawn["layout"][epochs[0]["yaxis"].replace("y", "yaxis")]["range"] == [0, 1]
