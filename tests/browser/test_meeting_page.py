@@ -134,3 +134,33 @@ def test_no_serious_accessibility_violation_on_any_tab(dash_duo, app_factory):
     open_card(dash_duo, 2)
     assert axe_violations(dash_duo.driver) == []
     assert dash_duo.get_logs() == []
+
+
+def test_plotly_comes_once_with_the_page_and_epoch_markers_are_drawn_as_traces(dash_duo, app_factory):
+    from plotly.offline import get_plotlyjs_version
+
+    open_link(dash_duo, app_factory(), FOUR.replace("tab=table", "tab=budget"))
+    wait_for_figures(dash_duo)
+    # plotly.js was fetched once, at its fingerprinted URL (with the page), and never again by dcc.Graph
+    names = dash_duo.driver.execute_script("return performance.getEntriesByType('resource').map(e => e.name)")
+    plotly_js = [n for n in names if "/plotly/" in n]
+    assert len(plotly_js) == 1 and ".v" in plotly_js[0].rsplit("/", 1)[-1], plotly_js
+    assert not [n for n in names if n.endswith(("/async-graph.js", "/async-dropdown.js"))]
+    assert dash_duo.driver.execute_script("return window.Plotly.version") == get_plotlyjs_version()
+    read = ("const gd = document.querySelector('#fd-fig-fractions .js-plotly-plot');"
+            "return gd && gd._fullLayout ? {shapes: (gd.layout.shapes || []).length, epochs: gd.data"
+            ".filter(t => (t.legendgroup || '').startsWith('epoch-')).map(t => ({x: Array.from(t.x), "
+            "y: Array.from(t.y), legend: t.showlegend, name: t.name, symbol: t.marker.symbol[0]}))} : null;")
+    wait_until(dash_duo, lambda d: d.execute_script(read), timeout=20)
+    drawn = dash_duo.driver.execute_script(read)
+    assert drawn["shapes"] == 0  # each epoch's line is part of its trace, not a layout shape
+    epochs = drawn["epochs"]
+    # "today" is a = 1 by the scale factor's normalisation a(t0) = 1: one per model (four small plots)
+    today = [e for e in epochs if e["name"] == "today"]
+    assert len(today) == 4 and all(e["x"] == [1, 1] for e in today)
+    for e in epochs:  # a dotted line from the symbol down to the foot of the plot, at one a
+        assert e["x"][0] == e["x"][1] and e["y"][1] == 0 and 0 < e["y"][0] <= 1
+    kinds = {e["name"] for e in epochs}
+    assert sorted(e["name"] for e in epochs if e["legend"]) == sorted(kinds)  # one legend entry per kind
+    assert len({e["symbol"] for e in epochs}) == len(kinds)  # and one symbol per kind
+    assert dash_duo.get_logs() == []
