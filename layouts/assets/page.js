@@ -93,7 +93,8 @@
     };
     plots.resize.fdSkipsUnchanged = true;
   }
-  // plotly.js arrives later (with the first figure) and sets window.Plotly itself
+  // plotly.js runs after this file (a deferred script of the page, server.app.EAGER_SCRIPTS)
+  // and sets window.Plotly itself
   if (window.Plotly) { patchResize(window.Plotly); } else {
     var loaded;
     Object.defineProperty(window, "Plotly", {configurable: true, enumerable: true,
