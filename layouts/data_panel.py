@@ -15,7 +15,8 @@ from layouts.specs import DataToolOptions, FitReport
 from layouts.tables import table
 from layouts.text import render
 
-__all__ = ["data_tools", "data_tools_body", "TOOLS_CLASSES", "fit_report", "map_view", "messages"]
+__all__ = ["data_tools", "data_tools_body", "data_tools_sections", "TOOLS_CLASSES", "SECTIONS_CLASSES", "fit_report",
+           "map_view", "messages"]
 
 
 def _bound_inputs(p: dict) -> html.Div:
@@ -43,6 +44,8 @@ def _map_note(points: int, levels) -> str:
 
 # className of the tools' box: empty, or holding the tools (built the first time the Data tab opens)
 TOOLS_CLASSES = {"empty": "fd-tools", "built": "fd-tools fd-built"}
+# className of the block's sections: empty until the block is first shown open
+SECTIONS_CLASSES = {"empty": "fd-data-tools", "built": "fd-data-tools fd-built"}
 
 
 def data_tools() -> html.Div:
@@ -53,21 +56,30 @@ def data_tools() -> html.Div:
     return html.Div(id=ids.data_tools, className=TOOLS_CLASSES["empty"], style={"display": "none"}, children=[])
 
 
-def data_tools_body(options: DataToolOptions) -> list:
-    """The data tools; `options`: a `layouts.specs.DataToolOptions` (texts, the fit parameters
-    with their default bounds, the map's grid size and contour levels)."""
+def data_tools_body() -> list:
+    """The frame of the data tools: the message of the last load, and a collapsible block after
+    the panel's results (open while the link has no data: the `tools_view` callback sets
+    `open`), its summary and its sections. The sections (`data_tools_sections`: uploads, the
+    fit's and the map's controls) are filled in the first time the block is shown open, by that
+    rule or by the reader opening it (`n_clicks` of the summary): a link with data opens on its
+    results, and building the tools it does not show cost the Data tab about a quarter of a
+    second (bench_meeting)."""
+    return [
+        html.Div(id=ids.data_message, className="fd-data-message", role="status"),
+        html.Details(id=ids.data_tools_details, className="fd-data-details", open=False, children=[
+            html.Summary("data tools: load, fit, map, catalogue", id=ids.data_tools_summary, n_clicks=0,
+                         className="fd-data-summary"),
+            html.Div(id=ids.data_tools_sections, className=SECTIONS_CLASSES["empty"], children=[])]),
+    ]
+
+
+def data_tools_sections(options: DataToolOptions) -> list:
+    """The data tools' sections; `options`: a `layouts.specs.DataToolOptions` (texts, the fit
+    parameters with their default bounds, the map's grid size and contour levels)."""
     params = options["parameters"]
     choices = [{"label": f"{p['label']}" + (f" [{p['unit']}]" if p.get("unit") else ""), "value": p["name"]}
                for p in params]
-    # a collapsible block after the panel's results (open while the link has no data: the
-    # `tools_view` callback sets `open`). What the last load did is said above it, visible when
-    # it is closed.
-    return [
-        html.Div(id=ids.data_message, className="fd-data-message", role="status"),
-        html.Details(id=ids.data_tools_details, className="fd-data-details", open=True, children=[
-            html.Summary("data tools: load, fit, map, catalogue", className="fd-data-summary"),
-            html.Div(className="fd-data-tools", children=_sections(options, params, choices))]),
-    ]
+    return _sections(options, params, choices)
 
 
 def _sections(options: DataToolOptions, params: list, choices: list) -> list:

@@ -36,6 +36,8 @@ class _Ids:
     # data panel tools (always in the page, shown on the data tab)
     data_tools = "fd-data-tools"
     data_tools_details = "fd-data-tools-details"
+    data_tools_summary = "fd-data-tools-summary"
+    data_tools_sections = "fd-data-tools-sections"
     format_link = "fd-format-link"
     data_upload = "fd-data-upload"
     covariance_upload = "fd-cov-upload"

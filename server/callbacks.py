@@ -22,7 +22,8 @@ import plotly.io
 from dash import ALL, MATCH, ClientsideFunction, Input, Output, State, ctx, dcc, no_update
 
 from layouts.cards import BODY_CLASSES, card_status, chip, model_card
-from layouts.data_panel import TOOLS_CLASSES, data_tools_body, fit_report, map_view, messages
+from layouts.data_panel import (SECTIONS_CLASSES, TOOLS_CLASSES, data_tools_body, data_tools_sections, fit_report,
+                                map_view, messages)
 from layouts.ids import ids
 from layouts.page import notice, panel_body, panel_figures
 import model
@@ -106,8 +107,8 @@ def _reference_options(state: codec.LinkState) -> list[dict]:
 
 def register(app, tool_options: dict) -> None:
     """Attach every callback to `app` (called by the factory); `tool_options` are the data
-    tools' texts and defaults (`layouts.data_panel.data_tools_body`), built when the Data tab
-    first opens."""
+    tools' texts and defaults (`layouts.data_panel.data_tools_sections`), built the first time
+    the tools are shown open."""
 
     @app.callback(
         Output(ids.url, "search"),
@@ -315,27 +316,45 @@ def register(app, tool_options: dict) -> None:
         # the data tools are built the first time the Data tab opens, and kept
         build = on_data and tools_class != TOOLS_CLASSES["built"]
         return (children, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
-                data_tools_body(tool_options) if build else no_update,
+                data_tools_body() if build else no_update,
                 TOOLS_CLASSES["built"] if build else no_update, redrawn, key)
 
     @app.callback(
         Output(ids.data_tools_details, "open"),
+        Output(ids.data_tools_sections, "children"),
+        Output(ids.data_tools_sections, "className"),
+        Input(ids.url, "href"),
+        Input(ids.data_tools_summary, "n_clicks"),
+        State(ids.data_tools_sections, "className"),
+    )
+    def tools_view(href, _clicks, sections_class):
+        """The data tools block follows the link (Dash first calls this when the tools' frame is
+        built): open while the link has no measurements it can load; once a set is in it, the
+        results come first and the block is closed (React only touches the element when this
+        value changes, so a block the reader opened or closed stays so while the link keeps or
+        keeps lacking its data). Its sections are built the first time it is shown open: by
+        that rule, or by the reader opening it (a click on the summary, which the browser
+        itself opens)."""
+        if ctx.triggered_id == ids.data_tools_summary:
+            tools_open, shown = no_update, True
+        else:
+            tools_open = measurements(compare(codec.decode(_search(href))))[0] is None
+            shown = tools_open
+        build = shown and sections_class != SECTIONS_CLASSES["built"]
+        return (tools_open, data_tools_sections(tool_options) if build else no_update,
+                SECTIONS_CLASSES["built"] if build else no_update)
+
+    @app.callback(
         Output(ids.fit_slot, "options"),
         Output(ids.fit_slot, "value"),
         Input(ids.url, "href"),
         State(ids.fit_slot, "value"),
     )
-    def tools_view(href, fit_slot):
-        """The data tools follow the link (Dash calls this only once the tools are built, and
-        again when they are: their outputs are not in the page before)."""
+    def fit_choices(href, fit_slot):
+        """The fit's starting models follow the link (Dash first calls this when the sections
+        are built)."""
         state = codec.decode(_search(href))
-        # the tools are open while the link has no measurements it can load; once a set is in it, the results
-        # come first (React only touches the element when this value changes, so a block the
-        # reader opened or closed stays so while the link keeps or keeps lacking its data)
-        tools_open = measurements(compare(state))[0] is None
-        slots = state.slots()
-        return (tools_open, _reference_options(state),
-                fit_slot if fit_slot in slots else codec.reference_slot(state))
+        return _reference_options(state), fit_slot if fit_slot in state.slots() else codec.reference_slot(state)
 
     @app.callback(
         Output(ids.url, "search", allow_duplicate=True),

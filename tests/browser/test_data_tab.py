@@ -115,3 +115,49 @@ def test_residual_controls_write_the_link_and_draw(dash_duo, app_factory, tmp_pa
     dash_duo.wait_for_page(url=f"{dash_duo.server_url}/?m1.label=One&m1.h0=70&tab=data&res=4")
     dash_duo.wait_for_contains_text("#fd-notice", "res: model 4 is not in the link", timeout=15)
     assert dash_duo.get_logs() == []
+
+
+def test_a_link_with_data_opens_on_its_results_and_builds_the_tools_when_they_are_opened(dash_duo, app_factory):
+    app = app_factory()
+    digest = app.server.test_client().post("/api/v1/data", data=GOOD, content_type="text/csv").get_json()["data"]
+    open_link(dash_duo, app, f"m1.label=One&m2.label=Two&m2.w0=-0.9&tab=data&data={digest}")
+    dash_duo.wait_for_contains_text("#fd-panel .fd-table", "Δχ² vs", timeout=20)
+    dash_duo.wait_for_element("#fd-data-tools-details > summary")
+    # closed, and none of the tools' controls is in the page yet
+    wait_until(dash_duo, lambda d: not d.find_elements(By.CSS_SELECTOR, "[data-dash-is-loading]"), timeout=20)
+    assert not _tools_open(dash_duo)
+    assert not dash_duo.driver.find_elements(By.ID, "fd-fit-run")
+    assert not dash_duo.driver.find_elements(By.CSS_SELECTOR, "#fd-data-upload")
+    # the reader opens the block: the sections are built, and follow the link like before
+    open_tools(dash_duo)
+    assert _tools_open(dash_duo)
+    wait_until(dash_duo, lambda d: d.find_element(By.ID, "fd-fit-run").get_attribute("disabled") is None)
+    dash_duo.wait_for_contains_text("#fd-fit-slot", "m1: One", timeout=10)
+    # closing and opening again keeps the same tools (nothing is built twice)
+    marker = dash_duo.driver.execute_script(
+        "const b = document.getElementById('fd-fit-run'); b.dataset.fdSeen = '1'; return b.dataset.fdSeen;")
+    summary = dash_duo.find_element("#fd-data-tools-details > summary")
+    summary.click()
+    wait_until(dash_duo, lambda d: not _tools_open(dash_duo))
+    summary.click()
+    wait_until(dash_duo, lambda d: _tools_open(dash_duo))
+    assert dash_duo.driver.execute_script("return document.getElementById('fd-fit-run').dataset.fdSeen") == marker
+    assert dash_duo.get_logs() == []
+
+
+def test_a_link_without_data_after_one_with_data_opens_the_tools_and_builds_them(dash_duo, app_factory):
+    app = app_factory()
+    digest = app.server.test_client().post("/api/v1/data", data=GOOD, content_type="text/csv").get_json()["data"]
+    open_link(dash_duo, app, f"m1.label=One&tab=data&data={digest}")
+    dash_duo.wait_for_contains_text("#fd-panel .fd-table", "Δχ² vs", timeout=20)
+    dash_duo.wait_for_element("#fd-data-tools-details > summary")
+    assert not dash_duo.driver.find_elements(By.ID, "fd-fit-run")
+    # the same page goes to a link without data (as a pasted link or Back would): the tools open, built
+    dash_duo.driver.execute_script(
+        "window.history.pushState({}, '', '?m1.label=One&tab=data');"
+        "window.dispatchEvent(new PopStateEvent('popstate'));")
+    dash_duo.wait_for_contains_text("#fd-panel", "No measurements in this link yet", timeout=10)
+    wait_until(dash_duo, lambda d: _tools_open(dash_duo))
+    wait_until(dash_duo, lambda d: d.find_element(By.ID, "fd-fit-run").is_displayed())
+    dash_duo.wait_for_text_to_equal("#fd-fit-reason", "load measurements first")
+    assert dash_duo.get_logs() == []

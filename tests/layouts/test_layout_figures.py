@@ -9,7 +9,7 @@ import numpy as np
 import model
 from dash import html
 
-from layouts.data_panel import data_tools_body
+from layouts.data_panel import data_tools_sections
 from layouts.figures import figure, small_multiples
 from layouts.palette import OKABE_ITO, slot_colour
 from server.views.data_tools import MAP_POINTS, data_tool_options
@@ -57,7 +57,7 @@ def test_map_note_reads_the_grid_size_and_levels_from_one_place():
     options = data_tool_options()
     assert options["map_points"] == MAP_POINTS
     assert options["levels"] == tuple(tuple(level) for level in model.CONFIDENCE_LEVELS_2D)
-    texts = [str(n.children) for _, n in _walk_components(html.Div(data_tools_body(options))) if hasattr(n, "children")]
+    texts = [str(n.children) for _, n in _walk_components(html.Div(data_tools_sections(options))) if hasattr(n, "children")]
     # 68 % and 95 % joint regions of two parameters (common practice, no source)
     assert any(f"{MAP_POINTS} × {MAP_POINTS} grid" in t and "Δχ² = 2.30 and 6.18" in t for t in texts)
 
