@@ -10,7 +10,7 @@ from pathlib import Path
 
 import pytest
 
-from benchmarks._serving import page_update_payload
+from layouts.data_panel import SECTIONS_CLASSES
 from layouts.ids import ids
 from server.format_page import markdown_to_html
 
@@ -39,12 +39,20 @@ def test_the_page_answers_with_every_heading_and_the_tab_links_to_it(app_factory
     assert HEADINGS and all(h in body for h in HEADINGS)
     assert "<h1>Measurement tables</h1>" in body and "<table>" in body and "<pre><code>" in body
     assert f'href="{prefix}"' in body  # back to the desk
-    # the Data tab's tools (built when the tab opens) link to it
+    # the Data tab's tools (their sections built when first shown open: without data, at once) link to it
     deps = app.server.test_client().get(prefix + "_dash-dependencies").get_json()
-    answer = app.server.test_client().post(prefix + "_dash-update-component",
-                                           json=page_update_payload(deps, "?tab=data", f"http://localhost{prefix}"))
-    tools = answer.get_json()["response"][ids.data_tools]["children"]
-    link = _find_json(tools, ids.format_link)
+    dep = next(d for d in deps if f"{ids.data_tools_sections}.children" in d["output"])
+    values = {(ids.url, "href"): f"http://localhost{prefix}?tab=data",
+              (ids.data_tools_sections, "className"): SECTIONS_CLASSES["empty"]}
+    payload = {"output": dep["output"], "changedPropIds": [f"{ids.url}.href"],
+               "outputs": [{"id": o.rsplit(".", 1)[0], "property": o.rsplit(".", 1)[1]}
+                           for o in dep["output"].strip(".").split("...")],
+               "inputs": [{**i, "value": values.get((i["id"], i["property"]))} for i in dep["inputs"]],
+               "state": [{**i, "value": values.get((i["id"], i["property"]))} for i in dep["state"]]}
+    answer = app.server.test_client().post(prefix + "_dash-update-component", json=payload)
+    response = answer.get_json()["response"]
+    assert response[ids.data_tools_details]["open"] is True
+    link = _find_json(response[ids.data_tools_sections]["children"], ids.format_link)
     assert link is not None and link["props"]["href"] == prefix + "format"
 
 
