@@ -20,6 +20,7 @@ import urllib.parse
 
 import plotly.io
 from dash import ALL, MATCH, ClientsideFunction, Input, Output, State, ctx, dcc, no_update
+from dash.exceptions import PreventUpdate
 
 from layouts.cards import BODY_CLASSES, card_status, chip, model_card
 from layouts.data_panel import (SECTIONS_CLASSES, TOOLS_CLASSES, data_tools_body, data_tools_sections, fit_report,
@@ -130,6 +131,7 @@ def register(app, tool_options: dict) -> None:
         Input(ids.remove(ALL), "n_clicks"),
         Input(ids.duplicate(ALL), "n_clicks"),
         Input(ids.preset(ALL), "value"),
+        State(ids.shells, "data"),
         State(ids.card_body(ALL), "className"),
     )
     def sync(search, _params, _views, tab, reference, zmax, *_rest):
@@ -168,8 +170,14 @@ def register(app, tool_options: dict) -> None:
                     codec.reference_slot(new), _reference_options(new), no_update, unchanged_views)
 
         if trigger is None:
-            # the page loaded, or inputs were just inserted (a card built, a panel drawn): the
-            # inputs show the link already, and no card is sent again
+            if (_rest[-2] or {}).get("filled"):
+                # inputs were just inserted (a card built, a panel's controls drawn): they were
+                # built from the link, and everything else already shows it. Answering with the
+                # link again re-rendered the view bar and re-ran the shells' and tabs' clientside
+                # callbacks after every panel with controls (DEVELOPERS.md, "Keeping the page fast")
+                raise PreventUpdate
+            # the page loaded (the shells' store still holds the layout's empty value): the view
+            # bar and the tab show the link
             return from_link(current, set())
         if trigger == ids.url:
             return from_link(current, built)
