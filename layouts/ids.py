@@ -112,6 +112,11 @@ class _Ids:
         return {"type": "fd-graph", "name": name}
 
     @staticmethod
+    def table(name: str) -> dict:
+        """A table of the open panel (`name`: ``t`` and its place among the panel's tables)."""
+        return {"type": "fd-table", "name": name}
+
+    @staticmethod
     def preset(slot: int) -> dict:
         return {"type": "fd-preset", "slot": slot}
 

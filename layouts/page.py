@@ -160,15 +160,20 @@ def _graph(block: dict) -> html.Figure:
     ])
 
 
-def panel_figures(children: list) -> tuple[str, dict[str, object]]:
-    """What a drawn panel (`panel_body`'s answer) shows apart from its figures, as a digest, and
-    its figures by graph name. Two panels with the same digest differ in their figures only, so
-    the page can redraw those in place (Plotly.react) instead of building the panel again."""
-    graphs = []
+def panel_figures(children: list) -> tuple[str, dict[str, object], dict[str, object]]:
+    """What a drawn panel (`panel_body`'s answer) shows apart from its figures and its tables'
+    contents, as a digest; its figures by graph name, and its tables' contents by table name.
+    Two panels with the same digest differ in those only, so the page can redraw them in place
+    (Plotly.react for a figure, new rows for a table) instead of building the panel again."""
+    graphs, tables = [], []
 
     def walk(node):
-        if isinstance(node, dcc.Graph) and isinstance(getattr(node, "id", None), dict):
+        ident = getattr(node, "id", None)
+        if isinstance(node, dcc.Graph) and isinstance(ident, dict):
             graphs.append(node)
+        elif isinstance(node, html.Div) and isinstance(ident, dict) and ident.get("type") == ids.table("")["type"]:
+            tables.append(node)
+            return
         kids = getattr(node, "children", None)
         for child in kids if isinstance(kids, (list, tuple)) else [kids]:
             if child is not None and not isinstance(child, (str, int, float)):
@@ -177,14 +182,19 @@ def panel_figures(children: list) -> tuple[str, dict[str, object]]:
     for node in children:
         walk(node)
     figures = {graph.id["name"]: graph.figure for graph in graphs}
+    contents = {box.id["name"]: box.children for box in tables}
     try:
         for graph in graphs:
             graph.figure = None
+        for box in tables:
+            box.children = None
         text = plotly.io.json.to_json_plotly(children)
     finally:
         for graph in graphs:
             graph.figure = figures[graph.id["name"]]
-    return hashlib.sha256(text.encode()).hexdigest()[:32], figures
+        for box in tables:
+            box.children = contents[box.id["name"]]
+    return hashlib.sha256(text.encode()).hexdigest()[:32], figures, contents
 
 
 def panel_body(body: PanelSpec) -> list:
@@ -195,6 +205,7 @@ def panel_body(body: PanelSpec) -> list:
         out.append(html.P(body["intro"], className="fd-intro"))
     if body.get("controls"):
         out.append(html.Div([_control(c) for c in body["controls"]], className="fd-controls"))
+    tables = 0
     for block in body["blocks"]:
         kind = block["kind"]
         if kind in ("figure", "multiples"):
@@ -202,7 +213,9 @@ def panel_body(body: PanelSpec) -> list:
         elif kind == "table":
             if block.get("title"):
                 out.append(html.H3(render(block["title"])))
-            out.append(table(block["header"], block.get("rows"), block.get("sections"), block.get("column_slots")))
+            out.append(table(block["header"], block.get("rows"), block.get("sections"), block.get("column_slots"),
+                             ident=ids.table(f"t{tables}")))
+            tables += 1
         elif kind == "text":
             out.append(html.P(render(block["text"]), className=TONE_CLASSES[block.get("tone", "note")]))
     return out

@@ -89,11 +89,12 @@ def _plain(header: list[str], sections: list[tuple[str | None, list[list[str]]]]
 
 
 def table(header: list[str], rows: list[list] | None = None, sections: list[dict] | None = None,
-          column_slots: list | None = None) -> html.Div:
+          column_slots: list | None = None, ident: dict | None = None) -> html.Div:
     """`header` strings; `rows` of cells, or `sections` (``[{"heading", "rows"}]``).
-    `column_slots` marks the header of a model's column with its colour."""
+    `column_slots` marks the header of a model's column with its colour; `ident`, the box's id."""
     slots = list(column_slots or []) + [None] * (len(header) - len(column_slots or []))
     parts = [(s["heading"], [[render(cell) for cell in row] for row in s["rows"]]) for s in sections] \
         if sections else [(None, [[render(cell) for cell in row] for row in rows or []])]
     short = sum(len(rows) for _, rows in parts) <= PLAIN_ROWS
-    return html.Div(className="fd-table", children=(_plain if short else _grid)(header, parts, slots))
+    return html.Div(className="fd-table", children=(_plain if short else _grid)(header, parts, slots),
+                    **({"id": ident} if ident else {}))

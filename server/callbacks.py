@@ -290,6 +290,7 @@ def register(app, tool_options: dict) -> None:
         Output(ids.data_tools, "children"),
         Output(ids.data_tools, "className"),
         Output(ids.graph(ALL), "figure"),
+        Output(ids.table(ALL), "children"),
         Output(ids.panel_key, "data"),
         Input(ids.url, "href"),
         State(ids.data_tools, "className"),
@@ -305,14 +306,17 @@ def register(app, tool_options: dict) -> None:
             logger.exception("panel %s failed for %r", state.view.tab, search)
             body = panel_body({"blocks": [{"kind": "text", "tone": "error",
                                            "text": f"This panel could not be drawn: {err}"}]})
-        # a panel that differs from the one shown in its figures only (an edit, a unit) keeps
-        # its elements: only the figures are sent, and Plotly redraws them in place
-        key, figures = panel_figures(body)
-        present = [item["id"]["name"] for item in ctx.outputs_list[-2]]
-        if key == shown and present == list(figures):
-            children, redrawn, key = no_update, [figures[name] for name in present], no_update
+        # a panel that differs from the one shown in its figures and its tables' rows only (an
+        # edit, a unit) keeps its elements: only those are sent, and Plotly redraws the figures
+        # in place
+        key, figures, contents = panel_figures(body)
+        present = [item["id"]["name"] for item in ctx.outputs_list[-3]]
+        present_tables = [item["id"]["name"] for item in ctx.outputs_list[-2]]
+        if key == shown and present == list(figures) and present_tables == list(contents):
+            children, key = no_update, no_update
+            redrawn, rows = [figures[name] for name in present], [contents[name] for name in present_tables]
         else:
-            children, redrawn = body, [no_update] * len(present)
+            children, redrawn, rows = body, [no_update] * len(present), [no_update] * len(present_tables)
         # dropped keys, and view values that could not be used (the default is drawn instead,
         # while the control still shows what was typed)
         dropped = [p.message for p in state.notices] + [
@@ -325,7 +329,7 @@ def register(app, tool_options: dict) -> None:
         build = on_data and tools_class != TOOLS_CLASSES["built"]
         return (children, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
                 data_tools_body() if build else no_update,
-                TOOLS_CLASSES["built"] if build else no_update, redrawn, key)
+                TOOLS_CLASSES["built"] if build else no_update, redrawn, rows, key)
 
     @app.callback(
         Output(ids.data_tools_details, "open"),

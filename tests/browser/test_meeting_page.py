@@ -17,7 +17,7 @@ from selenium.webdriver.common.by import By
 
 from server import codec
 from server.tabs import TAB_KEYS
-from test_page import FOUR, by_id, open_card, open_link, wait_until
+from test_page import FOUR, by_id, open_card, open_link, param_input, wait_until
 
 @functools.cache
 def _axe_source() -> str:
@@ -163,4 +163,44 @@ def test_plotly_comes_once_with_the_page_and_epoch_markers_are_drawn_as_traces(d
     kinds = {e["name"] for e in epochs}
     assert sorted(e["name"] for e in epochs if e["legend"]) == sorted(kinds)  # one legend entry per kind
     assert len({e["symbol"] for e in epochs}) == len(kinds)  # and one symbol per kind
+    assert dash_duo.get_logs() == []
+
+
+def test_an_edit_redraws_the_budget_panel_in_place_with_the_new_epochs(dash_duo, app_factory):
+    from selenium.webdriver.common.keys import Keys
+
+    open_link(dash_duo, app_factory(), "m1.label=Base&m2.label=Thawing&m2.w0=-0.9&tab=budget")
+    wait_for_figures(dash_duo)
+    rows = "#fd-panel .fd-table tbody tr"
+    wait_until(dash_duo, lambda d: len(d.find_elements(By.CSS_SELECTOR, rows)) == 2, timeout=20)
+
+    def acceleration_z():  # "z acceleration begins", the table's sixth column, per model row
+        return dash_duo.driver.execute_script(
+            f"return Array.from(document.querySelectorAll('{rows}')).map(r => r.children[5].textContent)")
+
+    before = acceleration_z()
+    assert before[0] != before[1]
+    # mark the panel's elements: an edit must keep them and send new figures and rows only
+    dash_duo.driver.execute_script(
+        "document.querySelectorAll('#fd-panel .fd-figure, #fd-panel .fd-table').forEach(e => e.dataset.fdProbe = 'kept');"
+        "window.__fdData = Array.from(document.querySelectorAll('#fd-panel .js-plotly-plot')).map(p => p.data);")
+    open_card(dash_duo, 2)
+    box = param_input(dash_duo, 2, "w0")
+    box.clear()
+    box.send_keys("-1" + Keys.ENTER)
+    wait_until(dash_duo, lambda d: "m2.w0=" not in d.current_url or "m2.w0=-1&" in d.current_url + "&")
+    # m2 is now a cosmological constant like m1: their acceleration epochs agree
+    wait_until(dash_duo, lambda d: len(set(acceleration_z())) == 1, timeout=20)
+    kept = dash_duo.driver.execute_script(
+        "return Array.from(document.querySelectorAll('#fd-panel .fd-figure, #fd-panel .fd-table'))"
+        ".map(e => e.dataset.fdProbe || '')")
+    assert kept and set(kept) == {"kept"}, kept
+    wait_until(dash_duo, lambda d: d.execute_script(
+        "return Array.from(document.querySelectorAll('#fd-panel .js-plotly-plot'))"
+        ".every((p, i) => p.data !== window.__fdData[i]);"), timeout=20)
+    # flat ΛCDM, radiation neglected: q = 0 at 1 + z = (2 Ω_Λ / Ω_m)^(1/3) (textbook closed form);
+    # radiation moves it by about 0.1 %, well inside the 1 % allowed here
+    cosmo = codec.decode("m1.label=Base").models[0].to_cosmology()
+    expected = (2 * cosmo.omega_de / cosmo.omega_m) ** (1 / 3) - 1
+    assert abs(float(acceleration_z()[0]) / expected - 1) < 0.01, (acceleration_z(), expected)
     assert dash_duo.get_logs() == []

@@ -11,7 +11,8 @@ from hypothesis import strategies as st
 
 PANEL_OUTPUT = ("..fd-panel.children...fd-notice.children...fd-notice-box.style...fd-link-text.value..."
                 "fd-data-tools.style...fd-data-tools.children...fd-data-tools.className..."
-                '{"name":["ALL"],"type":"fd-graph"}.figure...fd-panel-key.data..')
+                '{"name":["ALL"],"type":"fd-graph"}.figure...{"name":["ALL"],"type":"fd-table"}.children...'
+                'fd-panel-key.data..')
 
 
 @pytest.fixture(scope="module")
