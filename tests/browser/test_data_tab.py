@@ -117,12 +117,17 @@ def test_residual_controls_write_the_link_and_draw(dash_duo, app_factory, tmp_pa
     assert dash_duo.get_logs() == []
 
 
-def test_a_link_with_data_opens_on_its_results_and_builds_the_tools_when_they_are_opened(dash_duo, app_factory):
+def _open_with_data(dash_duo, app_factory, query: str) -> None:
+    """`query` on the Data tab with the GOOD table stored through the API; wait for the scores."""
     app = app_factory()
     digest = app.server.test_client().post("/api/v1/data", data=GOOD, content_type="text/csv").get_json()["data"]
-    open_link(dash_duo, app, f"m1.label=One&m2.label=Two&m2.w0=-0.9&tab=data&data={digest}")
+    open_link(dash_duo, app, f"{query}&tab=data&data={digest}")
     dash_duo.wait_for_contains_text("#fd-panel .fd-table", "Δχ² vs", timeout=20)
     dash_duo.wait_for_element("#fd-data-tools-details > summary")
+
+
+def test_a_link_with_data_opens_on_its_results_and_builds_the_tools_when_they_are_opened(dash_duo, app_factory):
+    _open_with_data(dash_duo, app_factory, "m1.label=One&m2.label=Two&m2.w0=-0.9")
     # closed, and none of the tools' controls is in the page yet
     wait_until(dash_duo, lambda d: not d.find_elements(By.CSS_SELECTOR, "[data-dash-is-loading]"), timeout=20)
     assert not _tools_open(dash_duo)
@@ -146,11 +151,7 @@ def test_a_link_with_data_opens_on_its_results_and_builds_the_tools_when_they_ar
 
 
 def test_a_link_without_data_after_one_with_data_opens_the_tools_and_builds_them(dash_duo, app_factory):
-    app = app_factory()
-    digest = app.server.test_client().post("/api/v1/data", data=GOOD, content_type="text/csv").get_json()["data"]
-    open_link(dash_duo, app, f"m1.label=One&tab=data&data={digest}")
-    dash_duo.wait_for_contains_text("#fd-panel .fd-table", "Δχ² vs", timeout=20)
-    dash_duo.wait_for_element("#fd-data-tools-details > summary")
+    _open_with_data(dash_duo, app_factory, "m1.label=One")
     assert not dash_duo.driver.find_elements(By.ID, "fd-fit-run")
     # the same page goes to a link without data (as a pasted link or Back would): the tools open, built
     dash_duo.driver.execute_script(
