@@ -165,14 +165,14 @@ def panel_figures(children: list) -> tuple[str, dict[str, object], dict[str, obj
     contents, as a digest; its figures by graph name, and its tables' contents by table name.
     Two panels with the same digest differ in those only, so the page can redraw them in place
     (Plotly.react for a figure, new rows for a table) instead of building the panel again."""
-    graphs, tables = [], []
+    held = []  # (component, the property sent on its own)
 
     def walk(node):
         ident = getattr(node, "id", None)
         if isinstance(node, dcc.Graph) and isinstance(ident, dict):
-            graphs.append(node)
-        elif isinstance(node, html.Div) and isinstance(ident, dict) and ident.get("type") == ids.table("")["type"]:
-            tables.append(node)
+            held.append((node, "figure"))
+        elif isinstance(node, html.Div) and isinstance(ident, dict) and ident == ids.table(str(ident.get("name"))):
+            held.append((node, "children"))
             return
         kids = getattr(node, "children", None)
         for child in kids if isinstance(kids, (list, tuple)) else [kids]:
@@ -181,19 +181,16 @@ def panel_figures(children: list) -> tuple[str, dict[str, object], dict[str, obj
 
     for node in children:
         walk(node)
-    figures = {graph.id["name"]: graph.figure for graph in graphs}
-    contents = {box.id["name"]: box.children for box in tables}
+    values = [getattr(node, prop) for node, prop in held]
     try:
-        for graph in graphs:
-            graph.figure = None
-        for box in tables:
-            box.children = None
+        for node, prop in held:
+            setattr(node, prop, None)
         text = plotly.io.json.to_json_plotly(children)
     finally:
-        for graph in graphs:
-            graph.figure = figures[graph.id["name"]]
-        for box in tables:
-            box.children = contents[box.id["name"]]
+        for (node, prop), value in zip(held, values):
+            setattr(node, prop, value)
+    figures = {node.id["name"]: value for (node, prop), value in zip(held, values) if prop == "figure"}
+    contents = {node.id["name"]: value for (node, prop), value in zip(held, values) if prop == "children"}
     return hashlib.sha256(text.encode()).hexdigest()[:32], figures, contents
 
 
