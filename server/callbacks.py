@@ -134,12 +134,13 @@ def register(app, tool_options: dict) -> None:
         State(ids.shells, "data"),
         State(ids.card_body(ALL), "className"),
     )
-    def sync(search, _params, _views, tab, reference, zmax, *_rest):
+    def sync(search, _params, _views, tab, reference, zmax, _add, _removes, _duplicates, _presets, shells,
+             body_classes):
         current = codec.decode(search or "")
         trigger = ctx.triggered_id
         slots = [item["id"]["slot"] for item in ctx.states_list[-1]]
         # the cards built so far (a card is built when its chip first opens it: `build_card`)
-        built = _built_slots(ctx.states_list[-1], _rest[-1])
+        built = _built_slots(ctx.states_list[-1], body_classes)
         view_keys = [item["id"]["key"] for item in ctx.outputs_list[-1]]
         unchanged_views = [no_update] * len(view_keys)
         unchanged_cards = [no_update] * len(slots)
@@ -170,7 +171,7 @@ def register(app, tool_options: dict) -> None:
                     codec.reference_slot(new), _reference_options(new), no_update, unchanged_views)
 
         if trigger is None:
-            if (_rest[-2] or {}).get("filled"):
+            if (shells or {}).get("filled"):
                 # inputs were just inserted (a card built, a panel's controls drawn): they were
                 # built from the link, and everything else already shows it. Answering with the
                 # link again re-rendered the view bar and re-ran the shells' and tabs' clientside
@@ -325,7 +326,8 @@ def register(app, tool_options: dict) -> None:
         base = (href or "").split("?")[0]
         on_data = state.view.tab == "data"
         tools = {"display": "block"} if on_data else {"display": "none"}
-        # the data tools are built the first time the Data tab opens, and kept
+        # the data tools' frame is built the first time the Data tab opens, and kept (its
+        # sections: `tools_view`)
         build = on_data and tools_class != TOOLS_CLASSES["built"]
         return (children, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
                 data_tools_body() if build else no_update,
