@@ -62,8 +62,8 @@ def data_tools_body() -> list:
     `open`), its summary and its sections. The sections (`data_tools_sections`: uploads, the
     fit's and the map's controls) are filled in the first time the block is shown open, by that
     rule or by the reader opening it (`n_clicks` of the summary): a link with data opens on its
-    results, and building the tools it does not show cost the Data tab about a quarter of a
-    second (bench_meeting)."""
+    results, and building the tools it does not show cost the Data tab about 0.2 s (1.07 against
+    0.85 s, back to back)."""
     return [
         html.Div(id=ids.data_message, className="fd-data-message", role="status"),
         html.Details(id=ids.data_tools_details, className="fd-data-details", open=False, children=[

@@ -7,7 +7,8 @@ panel's quantities at the link's redshifts (about 90 rows) would be about 800 ``
 components, which dominated the server's time for a cached update, while a grid costs about the
 same for any size. The grid is not used for every table because starting it in the browser costs
 more than a short table's few dozen cells: on the Energy budget panel (four models, one 4-row
-table) the plain table drew the panel 0.14 s sooner (bench_meeting, DEVELOPERS.md).
+table) the plain table drew the panel 0.08–0.14 s sooner in two back-to-back comparisons
+(DEVELOPERS.md, "Keeping the page fast").
 A table in sections (rows under headings) shows each heading in a first column spanning its rows.
 """
 
