@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import gc
+import re
 from pathlib import Path
 
 import dash
@@ -27,8 +28,23 @@ ASSETS = Path(__file__).resolve().parent.parent / "layouts" / "assets"
 # they download with it, under fingerprinted URLs cached for a year, and run while the page
 # waits for its first answers. AG Grid's build is left to load when a long table needs it.
 # (namespace, path in that package); DEVELOPERS.md, "Keeping the page fast".
-EAGER_SCRIPTS = (("plotly", "package_data/plotly.min.js"), ("dash", "dcc/async-graph.js"),
-                 ("dash", "dcc/async-dropdown.js"))
+# The two small chunks come first: deferred scripts run in order, and the view bar's dropdowns
+# are drawn before plotly.js (4.6 MB) is read and run, which made dcc fetch its chunk again.
+EAGER_SCRIPTS = (("dash", "dcc/async-dropdown.js"), ("dash", "dcc/async-graph.js"),
+                 ("plotly", "package_data/plotly.min.js"))
+
+# Dash puts Babel's polyfill for old browsers (@babel/polyfill, core-js 2) before React. A
+# browser that runs plotly.js 3 needs none of it but `regeneratorRuntime`, which
+# layouts/assets/regenerator.js supplies; running it cost every draw about 0.06 s, and its
+# replacements of native methods (String.prototype.trim among them) slowed Plotly's drawing.
+_POLYFILL_TAG = re.compile(r'<script src="[^"]*/deps/polyfill@[^"]*"></script>\s*')
+
+
+class _Dash(dash.Dash):
+    """Dash, with the page's scripts less Babel's polyfill (`_POLYFILL_TAG`)."""
+
+    def _generate_scripts_html(self) -> str:
+        return _POLYFILL_TAG.sub("", super()._generate_scripts_html())
 
 
 def create_app(config: dict | None = None) -> dash.Dash:
@@ -56,7 +72,7 @@ def create_app(config: dict | None = None) -> dash.Dash:
 
     install_limits(flask_app)
     flask_app.register_blueprint(api.make_blueprint(), url_prefix=prefix.rstrip("/") or None)
-    app = dash.Dash(
+    app = _Dash(
         "server",
         server=flask_app,
         url_base_pathname=prefix,

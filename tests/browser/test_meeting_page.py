@@ -136,6 +136,60 @@ def test_no_serious_accessibility_violation_on_any_tab(dash_duo, app_factory):
     assert dash_duo.get_logs() == []
 
 
+# Two async functions as Babel's regenerator transform compiles them (the state machine and the
+# asyncToGenerator helper, the shapes in Dash's bundles), driven by layouts/assets/regenerator.js:
+#   async () => { const x = await Promise.resolve(20); if (x > 10) return x + 1; return 0; }
+#   async () => { await Promise.reject(new Error("refused")); }
+# By ECMAScript's semantics of await (ECMA-262 §27.7), the first resolves to 21 and the second
+# rejects with its error; stepped by hand, its generator is done at the `return` (§27.5).
+_COMPILED_ASYNC = r"""
+const done = arguments[arguments.length - 1];
+function step(gen, resolve, reject, next, thrown, key, arg) {
+  let info, value;
+  try { info = gen[key](arg); value = info.value; } catch (e) { reject(e); return; }
+  if (info.done) { resolve(value); } else { Promise.resolve(value).then(next, thrown); }
+}
+function asyncToGenerator(fn) {
+  return function () {
+    const self = this, args = arguments;
+    return new Promise(function (resolve, reject) {
+      const gen = fn.apply(self, args);
+      function next(v) { step(gen, resolve, reject, next, thrown, "next", v); }
+      function thrown(e) { step(gen, resolve, reject, next, thrown, "throw", e); }
+      next(undefined);
+    });
+  };
+}
+const R = window.regeneratorRuntime;
+const machine = R.mark(function outer() { var x; return R.wrap(function (c) { for (;;) switch (c.prev = c.next) {
+  case 0: c.next = 2; return Promise.resolve(20);
+  case 2: x = c.sent; if (!(x > 10)) { c.next = 5; break; } return c.abrupt("return", x + 1);
+  case 5: return c.abrupt("return", 0);
+  case 6: case "end": return c.stop(); } }, outer); });
+// the generator protocol itself: one step to the await, then the return completes it (done)
+const gen = machine(), first = gen.next(), second = gen.next(20), after = gen.next();
+const protocol = [first.done, second.value, second.done, after.done, after.value === undefined];
+const plusOne = asyncToGenerator(machine);
+const refused = asyncToGenerator(R.mark(function outer() { return R.wrap(function (c) { for (;;) switch (c.prev = c.next) {
+  case 0: c.next = 2; return Promise.reject(new Error("refused"));
+  case 2: case "end": return c.stop(); } }, outer); }));
+plusOne().then(v => refused().then(() => done([protocol, v, "resolved"]), e => done([protocol, v, e.message])),
+                e => done(["failed", String(e)]));
+"""
+
+
+def test_the_page_runs_without_babels_polyfill(dash_duo, app_factory):
+    open_link(dash_duo, app_factory(), FOUR.replace("tab=table", "tab=distances"))
+    wait_for_figures(dash_duo)  # dcc.Graph, a lazy component, loaded through the stand-in
+    driver = dash_duo.driver
+    # the view bar's lists are dcc.Dropdown, the other lazy component
+    assert driver.find_elements(By.CSS_SELECTOR, ".fd-view-setting .dash-dropdown, .fd-view-setting .Select")
+    assert driver.execute_script("return window._babelPolyfill === undefined && "
+                                 "String.prototype.trim.toString().includes('[native code]')")
+    assert driver.execute_async_script(_COMPILED_ASYNC) == [[False, 21, True, True, True], 21, "refused"]
+    assert dash_duo.get_logs() == []
+
+
 def test_plotly_comes_once_with_the_page_and_epoch_markers_are_drawn_as_traces(dash_duo, app_factory):
     from plotly.offline import get_plotlyjs_version
 
