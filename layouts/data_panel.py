@@ -56,20 +56,21 @@ def data_tools() -> html.Div:
     return html.Div(id=ids.data_tools, className=TOOLS_CLASSES["empty"], style={"display": "none"}, children=[])
 
 
-def data_tools_body() -> list:
+def data_tools_body(open_: bool = False, sections: list | None = None) -> list:
     """The frame of the data tools: the message of the last load, and a collapsible block after
-    the panel's results (open while the link has no data: the `tools_view` callback sets
-    `open`), its summary and its sections. The sections (`data_tools_sections`: uploads, the
-    fit's and the map's controls) are filled in the first time the block is shown open, by that
-    rule or by the reader opening it (`n_clicks` of the summary): a link with data opens on its
-    results, and building the tools it does not show cost the Data tab about 0.2 s (1.07 against
-    0.85 s, back to back)."""
+    the panel's results, open (`open_`) while the link has no data; its summary and its
+    `sections` (`data_tools_sections`: uploads, the fit's and the map's controls; None: not
+    built yet). The sections are built the first time the block is shown open: with the frame
+    (`render`, a link with no data) or when the reader opens it (`tools_view`, on `n_clicks`
+    of the summary). A link with data opens on its results: building the tools it does not show
+    cost the Data tab about 0.2 s (1.07 against 0.85 s, back to back)."""
     return [
         html.Div(id=ids.data_message, className="fd-data-message", role="status"),
-        html.Details(id=ids.data_tools_details, className="fd-data-details", open=False, children=[
+        html.Details(id=ids.data_tools_details, className="fd-data-details", open=open_, children=[
             html.Summary("data tools: load, fit, map, catalogue", id=ids.data_tools_summary, n_clicks=0,
                          className="fd-data-summary"),
-            html.Div(id=ids.data_tools_sections, className=SECTIONS_CLASSES["empty"], children=[])]),
+            html.Div(id=ids.data_tools_sections, className=SECTIONS_CLASSES["empty" if sections is None else "built"],
+                     children=sections or [])]),
     ]
 
 

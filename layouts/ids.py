@@ -23,6 +23,7 @@ class _Ids:
     zmax = "fd-zmax"
     panel = "fd-panel"
     panel_key = "fd-panel-key"
+    panel_views = "fd-panel-views"  # what a panel's own control was set to (`fd.panelViews`)
     notice = "fd-notice"
     notice_close = "fd-notice-close"
     notice_box = "fd-notice-box"
@@ -75,7 +76,19 @@ class _Ids:
 
     @staticmethod
     def view(key: str) -> dict:
+        """A view key's control in the view bar (always in the page)."""
         return {"type": "fd-view", "key": key}
+
+    @staticmethod
+    def panel_shown(name: str) -> dict:
+        """The values a panel's controls were built with (a store beside them; a pattern id, so
+        that a panel without controls leaves an empty list, not a missing id, to `fd.panelViews`)."""
+        return {"type": "fd-panel-shown", "name": name}
+
+    @staticmethod
+    def panel_view(key: str) -> dict:
+        """A view key's control drawn with a panel (its unit, its model, its bins)."""
+        return {"type": "fd-panel-view", "key": key}
 
     @staticmethod
     def slot(slot: int) -> dict:

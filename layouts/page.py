@@ -90,14 +90,15 @@ def page(options: PageOptions) -> html.Div:
         ]),
         dcc.Loading(html.Div(id=ids.panel, className="fd-panel", role="tabpanel"), type="dot", delay_show=400),
         dcc.Store(id=ids.panel_key, data=""),  # what the panel shows, but for its figures (`render`)
+        dcc.Store(id=ids.panel_views, data=None),  # a panel control's change, for `sync` (`fd.panelViews`)
         data_tools(),
     ])
 
 
-def _view_dropdown(control: dict, class_name: str, label_id: str) -> html.Div:
-    """The list of view key ``control["key"]``, named by the element `label_id` (a dcc.Dropdown
-    takes no aria-* props, so a group around it carries the name)."""
-    return html.Div(dcc.Dropdown(id=ids.view(control["key"]), options=control["options"], value=control["value"],
+def _view_dropdown(control: dict, class_name: str, label_id: str, ident: dict) -> html.Div:
+    """The list of view key ``control["key"]`` with id `ident`, named by the element `label_id`
+    (a dcc.Dropdown takes no aria-* props, so a group around it carries the name)."""
+    return html.Div(dcc.Dropdown(id=ident, options=control["options"], value=control["value"],
                                  clearable=False, searchable=False, className=class_name),
                     role="group", **{"aria-labelledby": label_id})
 
@@ -107,18 +108,22 @@ def _view_setting(control: dict) -> html.Span:
     label_id = f"fd-view-label-{control['key']}"
     return html.Span(className="fd-view-setting", children=[
         html.Span(control["label"], className="fd-viewbar-label", id=label_id),
-        _view_dropdown(control, "fd-view-dropdown", label_id),
+        _view_dropdown(control, "fd-view-dropdown", label_id, ids.view(control["key"])),
     ])
 
 
 def _control(control: dict):
+    """A panel's own control of a view key. Its id is `ids.panel_view`, not `ids.view`: Dash
+    calls every callback whose pattern inputs are inserted, and `sync` (the view bar's) would
+    make a round trip after each panel drawn; `fd.panelViews` passes its changes on instead
+    (in the browser, comparing with `ids.panel_shown`)."""
     key = control["key"]
-    label = html.Label(control["label"], className="fd-control-label", htmlFor=dom_id(ids.view(key)),
+    label = html.Label(control["label"], className="fd-control-label", htmlFor=dom_id(ids.panel_view(key)),
                        id=f"fd-control-label-{key}")
     if control["kind"] == "dropdown":
-        widget = _view_dropdown(control, "fd-control-dropdown", f"fd-control-label-{key}")
+        widget = _view_dropdown(control, "fd-control-dropdown", f"fd-control-label-{key}", ids.panel_view(key))
     else:
-        widget = dcc.Input(id=ids.view(key), type="text", value=control["value"], debounce=True,
+        widget = dcc.Input(id=ids.panel_view(key), type="text", value=control["value"], debounce=True,
                            className="fd-input")
     parts = [label, widget]
     if control.get("range"):
@@ -201,7 +206,10 @@ def panel_body(body: PanelSpec) -> list:
     if body.get("intro"):
         out.append(html.P(body["intro"], className="fd-intro"))
     if body.get("controls"):
-        out.append(html.Div([_control(c) for c in body["controls"]], className="fd-controls"))
+        # the values the controls are built with (the link's), for `fd.panelViews` to tell a
+        # reader's change from the call Dash makes as the controls come in
+        shown = dcc.Store(id=ids.panel_shown("controls"), data={c["key"]: c["value"] for c in body["controls"]})
+        out.append(html.Div([_control(c) for c in body["controls"]] + [shown], className="fd-controls"))
     tables = 0
     for block in body["blocks"]:
         kind = block["kind"]

@@ -131,13 +131,21 @@ def register(app, tool_options: dict) -> None:
         Input(ids.remove(ALL), "n_clicks"),
         Input(ids.duplicate(ALL), "n_clicks"),
         Input(ids.preset(ALL), "value"),
+        Input(ids.panel_views, "data"),
         State(ids.shells, "data"),
         State(ids.card_body(ALL), "className"),
     )
-    def sync(search, _params, _views, tab, reference, zmax, _add, _removes, _duplicates, _presets, shells,
-             body_classes):
+    def sync(search, _params, _views, tab, reference, zmax, _add, _removes, _duplicates, _presets, panel_views,
+             shells, body_classes):
         current = codec.decode(search or "")
         trigger = ctx.triggered_id
+        fired = {item["prop_id"] for item in ctx.triggered if item.get("prop_id", ".") != "."}
+        if f"{ids.url}.search" in fired:
+            # the link itself changed, whatever else is listed: on the first load Dash names the
+            # panel controls' store beside the location (both set as the page mounts)
+            trigger = ids.url
+        elif trigger == ids.panel_views and not panel_views:
+            trigger = None  # the store's empty start, not a control's change
         slots = [item["id"]["slot"] for item in ctx.states_list[-1]]
         # the cards built so far (a card is built when its chip first opens it: `build_card`)
         built = _built_slots(ctx.states_list[-1], body_classes)
@@ -194,6 +202,9 @@ def register(app, tool_options: dict) -> None:
             return write(current, new, min(added) if added else (slot if action == "preset" else None))
         params = [(item["id"], item.get("value")) for item in ctx.inputs_list[1]]
         views = [(item["id"]["key"], item.get("value")) for item in ctx.inputs_list[2]]
+        if trigger == ids.panel_views and panel_views:
+            # a panel's own control (`fd.panelViews` passes on all of that panel's)
+            views += [(key, value) for key, value in panel_views.get("pairs", [])]
         new = states.apply_inputs(current, params, views + [("tab", tab), ("ref", reference), ("zmax", zmax)])
         if codec.encode(new) == codec.encode(current):
             return nothing
@@ -261,6 +272,14 @@ def register(app, tool_options: dict) -> None:
         Input(ids.slot(MATCH), "className"),
     )
     app.clientside_callback(
+        ClientsideFunction("fd", "panelViews"),
+        Output(ids.panel_views, "data"),
+        Input(ids.panel_view(ALL), "value"),
+        State(ids.panel_view(ALL), "id"),
+        State(ids.panel_shown(ALL), "data"),
+        prevent_initial_call=True,
+    )
+    app.clientside_callback(
         ClientsideFunction("fd", "pickTab"),
         Output(ids.tab, "data", allow_duplicate=True),
         Input(ids.tab_button(ALL), "n_clicks"),
@@ -326,11 +345,15 @@ def register(app, tool_options: dict) -> None:
         base = (href or "").split("?")[0]
         on_data = state.view.tab == "data"
         tools = {"display": "block"} if on_data else {"display": "none"}
-        # the data tools' frame is built the first time the Data tab opens, and kept (its
-        # sections: `tools_view`)
+        # the data tools' frame is built the first time the Data tab opens, and kept; open, with
+        # its sections, while the link has no data (later changes: `tools_view`)
         build = on_data and tools_class != TOOLS_CLASSES["built"]
+        frame = no_update
+        if build:
+            tools_open = measurements(comparison)[0] is None
+            frame = data_tools_body(tools_open, data_tools_sections(tool_options) if tools_open else None)
         return (children, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
-                data_tools_body() if build else no_update,
+                frame,
                 TOOLS_CLASSES["built"] if build else no_update, redrawn, rows, key)
 
     @app.callback(
@@ -340,15 +363,18 @@ def register(app, tool_options: dict) -> None:
         Input(ids.url, "href"),
         Input(ids.data_tools_summary, "n_clicks"),
         State(ids.data_tools_sections, "className"),
+        prevent_initial_call=True,
     )
     def tools_view(href, _clicks, sections_class):
-        """The data tools block follows the link (Dash first calls this when the tools' frame is
-        built): open while the link has no measurements it can load; once a set is in it, the
-        results come first and the block is closed (React only touches the element when this
-        value changes, so a block the reader opened or closed stays so while the link keeps or
-        keeps lacking its data). Its sections are built the first time it is shown open: by
-        that rule, or by the reader opening it (a click on the summary, which the browser
-        itself opens)."""
+        """The data tools block follows the link: open while the link has no measurements it
+        can load; once a set is in it, the results come first and the block is closed (React
+        only touches the element when this value changes, so a block the reader opened or
+        closed stays so while the link keeps or keeps lacking its data). Its sections are built
+        the first time it is shown open: by that rule, or by the reader opening it (a click on
+        the summary, which the browser itself opens). `render` builds the frame in the state
+        this would give it, so this is not called when the frame is inserted (its outputs come
+        with it: Dash skips a callback with `prevent_initial_call` then), which saved the Data
+        tab a round trip after its figures."""
         if ctx.triggered_id == ids.data_tools_summary:
             tools_open, shown = no_update, True
         else:

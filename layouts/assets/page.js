@@ -1,5 +1,5 @@
 /* Browser-side parts of the page (layouts/page.py, layouts/cards.py, server/callbacks.py):
-   chips that open and close their cards, the panel tabs (role=tab, roving tabindex, arrow
+   chips that open and close their cards, a panel's controls passed on to the link, the panel tabs (role=tab, roving tabindex, arrow
    keys), and "copy link". None of them needs the server. */
 (function () {
   "use strict";
@@ -48,6 +48,19 @@
       var trigger = window.dash_clientside.callback_context.triggered_id;
       if (!trigger || !trigger.key) { return noUpdate(); }
       return trigger.key;
+    },
+    // a panel's own control changed (ids.panel_view): every such control's [view key, value]
+    // for `sync`, which writes the link. Dash also calls this, naming a control as the trigger,
+    // when a panel inserts its controls, and when a panel without controls replaces them:
+    // `shown` ([one store] or none) holds the values they were built with (the link's), and
+    // while every value is still that, nothing is passed on (done here, those calls cost no
+    // round trip to the server).
+    panelViews: function (values, ids, shown) {
+      var built = shown && shown.length ? shown[0] : null;
+      var text = function (v) { return v === null || v === undefined ? "" : String(v); };
+      var changed = built && ids.some(function (id, i) { return text(built[id.key]) !== text(values[i]); });
+      if (!changed) { return noUpdate(); }
+      return {pairs: ids.map(function (id, i) { return [id.key, values[i]]; }), at: Date.now()};
     },
     // the open tab: selected state, roving tabindex and style of every tab button
     tabState: function (tab, ids) {

@@ -100,9 +100,9 @@ def test_the_same_file_chosen_twice_is_loaded_twice_and_the_tools_close(dash_duo
 def test_residual_controls_write_the_link_and_draw(dash_duo, app_factory, tmp_path):
     _open_and_upload(dash_duo, app_factory, tmp_path)
     dash_duo.wait_for_element("#fd-fig-residual-distance_modulus .scatterlayer", timeout=20)
-    dash_duo.select_dcc_dropdown(by_id(dash_duo, {"type": "fd-view", "key": "res"}), "m2 Two")
+    dash_duo.select_dcc_dropdown(by_id(dash_duo, {"type": "fd-panel-view", "key": "res"}), "m2 Two")
     wait_until(dash_duo, lambda d: "res=2" in d.current_url)
-    box = by_id(dash_duo, {"type": "fd-view", "key": "rbin"})
+    box = by_id(dash_duo, {"type": "fd-panel-view", "key": "rbin"})
     box.send_keys("0,0.3,1" + Keys.ENTER)
     wait_until(dash_duo, lambda d: "rbin=0,0.3,1" in d.current_url)
     # one model's residuals and its binned means: both drawn with that model's marker shape
@@ -161,4 +161,45 @@ def test_a_link_without_data_after_one_with_data_opens_the_tools_and_builds_them
     wait_until(dash_duo, lambda d: _tools_open(dash_duo))
     wait_until(dash_duo, lambda d: d.find_element(By.ID, "fd-fit-run").is_displayed())
     dash_duo.wait_for_text_to_equal("#fd-fit-reason", "load measurements first")
+    assert dash_duo.get_logs() == []
+
+
+# every page-update request the page makes, by the outputs it asks for (Dash's request body)
+_COUNT_UPDATES = """
+window.__fdUpdates = [];
+const send = window.fetch;
+window.fetch = function (url, options) {
+  try { if (String(url).includes('_dash-update-component')) window.__fdUpdates.push(JSON.parse(options.body).output); }
+  catch (e) {}
+  return send.apply(this, arguments);
+};
+"""
+
+
+def test_a_drawn_data_tab_makes_no_round_trip_for_its_inserted_controls_and_tools(dash_duo, app_factory):
+    dash_duo.driver.execute_cdp_cmd("Page.addScriptToEvaluateOnNewDocument", {"source": _COUNT_UPDATES})
+    _open_with_data(dash_duo, app_factory, "m1.label=One&m2.label=Two&m2.w0=-0.9")
+    dash_duo.wait_for_element("#fd-fig-residual-distance_modulus .scatterlayer", timeout=20)
+    wait_until(dash_duo, lambda d: not d.find_elements(By.CSS_SELECTOR, "[data-dash-is-loading]"), timeout=20)
+    sent = dash_duo.driver.execute_script("return window.__fdUpdates")
+    # the link is read into the view bar once (the panel's own controls are not `sync`'s inputs),
+    # and the tools' frame comes from `render` in the state `tools_view` would give it
+    assert sum(o.startswith("..fd-url.search...") for o in sent) == 1, [o[:60] for o in sent]
+    assert not [o for o in sent if "fd-data-tools-details.open" in o], sent
+    assert sum(o.startswith("..fd-panel.children...") for o in sent) == 1, sent
+    # the residual controls still write the link
+    dash_duo.select_dcc_dropdown(by_id(dash_duo, {"type": "fd-panel-view", "key": "res"}), "m2 Two")
+    wait_until(dash_duo, lambda d: "res=2" in d.current_url)
+    assert dash_duo.get_logs() == []
+
+
+def test_a_link_without_data_opens_with_the_tools_built(dash_duo, app_factory):
+    dash_duo.driver.execute_cdp_cmd("Page.addScriptToEvaluateOnNewDocument", {"source": _COUNT_UPDATES})
+    open_link(dash_duo, app_factory(), "m1.label=One&m2.label=Two&tab=data")
+    wait_until(dash_duo, lambda d: d.find_elements(By.ID, "fd-fit-run"), timeout=20)
+    assert _tools_open(dash_duo)
+    # the fit's starting models follow the link (fit_choices, called as the sections come in)
+    dash_duo.wait_for_contains_text("#fd-fit-slot", "m1: One", timeout=10)
+    sent = dash_duo.driver.execute_script("return window.__fdUpdates")
+    assert not [o for o in sent if "fd-data-tools-details.open" in o], sent
     assert dash_duo.get_logs() == []

@@ -258,3 +258,23 @@ def test_an_edit_redraws_the_budget_panel_in_place_with_the_new_epochs(dash_duo,
     expected = (2 * cosmo.omega_de / cosmo.omega_m) ** (1 / 3) - 1
     assert abs(float(acceleration_z()[0]) / expected - 1) < 0.01, (acceleration_z(), expected)
     assert dash_duo.get_logs() == []
+
+
+def test_a_panel_control_writes_the_link_and_its_insertion_costs_no_round_trip(dash_duo, app_factory):
+    from test_data_tab import _COUNT_UPDATES
+
+    dash_duo.driver.execute_cdp_cmd("Page.addScriptToEvaluateOnNewDocument", {"source": _COUNT_UPDATES})
+    open_link(dash_duo, app_factory(), FOUR.replace("tab=table", "tab=distances"))
+    wait_for_figures(dash_duo)
+    wait_until(dash_duo, lambda d: not d.find_elements(By.CSS_SELECTOR, "[data-dash-is-loading]"), timeout=20)
+    syncs = lambda: [o for o in dash_duo.driver.execute_script("return window.__fdUpdates")  # noqa: E731
+                     if o.startswith("..fd-url.search...")]
+    assert len(syncs()) == 1  # the link read into the view bar on load; none for the panel's list
+    dash_duo.select_dcc_dropdown(by_id(dash_duo, {"type": "fd-panel-view", "key": "dist"}),
+                                 "transverse comoving distance D_M")
+    wait_until(dash_duo, lambda d: "dist=dm" in d.current_url)
+    wait_until(dash_duo, lambda d: "D_M" in d.find_element(By.CSS_SELECTOR, "#fd-fig-luminosity_distance, "
+                                                                             "#fd-panel .js-plotly-plot").text)
+    wait_until(dash_duo, lambda d: not d.find_elements(By.CSS_SELECTOR, "[data-dash-is-loading]"), timeout=20)
+    assert len(syncs()) == 2  # the reader's choice; the new panel's list, built with it, adds none
+    assert dash_duo.get_logs() == []
