@@ -22,7 +22,8 @@ __all__ = ["Entry", "Comparison", "compare", "num", "key_of", "measurements", "s
 KIND_TITLES = {key: (kind.title, kind.unit) for key, kind in model.MEASUREMENT_KINDS.items()}
 # The distances panel's distance choice -> the measurement kind drawn on it (D_M has none).
 DISTANCE_KIND = {"dl": "luminosity_distance", "da": "angular_diameter_distance", "dc": "comoving_distance"}
-SYNTHETIC_NOTE = "synthetic demo data (made by scripts/make_demo_data.py from an invented model; not real measurements)"
+# what the page says of the demo set (no repository path: a reader of the page has none)
+SYNTHETIC_NOTE = "synthetic demo data (an invented model observed by two invented surveys, with random noise; not real measurements)"
 
 
 def num(value, digits: int = 6, unit: str = "") -> Number:

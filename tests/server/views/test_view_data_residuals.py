@@ -6,6 +6,8 @@ hover, bars spanning each bin)."""
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 
 import model
@@ -97,3 +99,11 @@ def test_one_model_is_not_shifted(ctx):
     drawn = figure(_figure(_panel("&res=1")))
     residual = next(t for t in drawn["data"] if t["yaxis"] == "y")
     assert residual["x"] == [0.1, 0.2, 0.4, 0.6, 1.6] and "customdata" not in residual
+
+
+def test_the_demo_sets_note_names_no_repository_path():
+    # a reader of the page has the page, not the repository: the note says what the set is
+    from server.views.comparison import SYNTHETIC_NOTE
+
+    assert "synthetic" in SYNTHETIC_NOTE and "not real measurements" in SYNTHETIC_NOTE
+    assert not re.search(r"\b[\w-]+/[\w./-]+\.(py|md|csv)\b", SYNTHETIC_NOTE), SYNTHETIC_NOTE
