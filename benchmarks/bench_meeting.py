@@ -87,7 +87,11 @@ def _edit(driver, value):
             boxes = driver.find_elements(By.XPATH, f"//*[@id='{dom}']")
         time.sleep(0.3)
     box = boxes[0]
-    box.clear()
+    # as a reader does it: select the text and type over it. WebDriver's clear() also blurs the
+    # box, which commits the emptied value: one more redraw, sometimes still running when the
+    # timed one began
+    box.click()
+    box.send_keys(Keys.CONTROL, "a")
     box.send_keys(value)
     driver.execute_script(
         "window.__fdBefore = Array.from(document.querySelectorAll('#fd-panel .js-plotly-plot')).map(p => p.data);")
