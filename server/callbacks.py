@@ -32,7 +32,7 @@ from server import codec, data_store, state as states
 from server.cache import BudgetExceeded
 from server.views import data_tools
 from server.views.cards import card_status as card_status_spec, cards, chips
-from server.views.comparison import compare, measurements
+from server.views.comparison import Comparison, compare, measurements
 from server.views.downloads import panel_csv, parameter_sets
 from server.views.page import page_options, panel  # page_options: read by the app factory
 
@@ -106,6 +106,12 @@ def _reference_options(state: codec.LinkState) -> list[dict]:
     return [{"label": f"m{m.slot}: {m.name}", "value": m.slot} for m in state.models]
 
 
+def _tools_open(comparison: Comparison) -> bool:
+    """The data tools block is open while the link has no measurements it can load (`render`
+    builds the block so, `tools_view` keeps it so)."""
+    return measurements(comparison)[0] is None
+
+
 def register(app, tool_options: dict) -> None:
     """Attach every callback to `app` (called by the factory); `tool_options` are the data
     tools' texts and defaults (`layouts.data_panel.data_tools_sections`), built the first time
@@ -139,8 +145,7 @@ def register(app, tool_options: dict) -> None:
              shells, body_classes):
         current = codec.decode(search or "")
         trigger = ctx.triggered_id
-        fired = {item["prop_id"] for item in ctx.triggered if item.get("prop_id", ".") != "."}
-        if f"{ids.url}.search" in fired:
+        if f"{ids.url}.search" in ctx.triggered_prop_ids:
             # the link itself changed, whatever else is listed: on the first load Dash names the
             # panel controls' store beside the location (both set as the page mounts)
             trigger = ids.url
@@ -202,7 +207,7 @@ def register(app, tool_options: dict) -> None:
             return write(current, new, min(added) if added else (slot if action == "preset" else None))
         params = [(item["id"], item.get("value")) for item in ctx.inputs_list[1]]
         views = [(item["id"]["key"], item.get("value")) for item in ctx.inputs_list[2]]
-        if trigger == ids.panel_views and panel_views:
+        if trigger == ids.panel_views:  # (its empty start was set aside above)
             # a panel's own control (`fd.panelViews` passes on all of that panel's)
             views += [(key, value) for key, value in panel_views.get("pairs", [])]
         new = states.apply_inputs(current, params, views + [("tab", tab), ("ref", reference), ("zmax", zmax)])
@@ -350,7 +355,7 @@ def register(app, tool_options: dict) -> None:
         build = on_data and tools_class != TOOLS_CLASSES["built"]
         frame = no_update
         if build:
-            tools_open = measurements(comparison)[0] is None
+            tools_open = _tools_open(comparison)
             frame = data_tools_body(tools_open, data_tools_sections(tool_options) if tools_open else None)
         return (children, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
                 frame,
@@ -378,7 +383,7 @@ def register(app, tool_options: dict) -> None:
         if ctx.triggered_id == ids.data_tools_summary:
             tools_open, shown = no_update, True
         else:
-            tools_open = measurements(compare(codec.decode(_search(href))))[0] is None
+            tools_open = _tools_open(compare(codec.decode(_search(href))))
             shown = tools_open
         build = shown and sections_class != SECTIONS_CLASSES["built"]
         return (tools_open, data_tools_sections(tool_options) if build else no_update,

@@ -1,6 +1,7 @@
 /* Browser-side parts of the page (layouts/page.py, layouts/cards.py, server/callbacks.py):
-   chips that open and close their cards, a panel's controls passed on to the link, the panel tabs (role=tab, roving tabindex, arrow
-   keys), and "copy link". None of them needs the server. */
+   chips that open and close their cards, a panel's controls passed on to the link, the panel
+   tabs (role=tab, roving tabindex, arrow keys), and "copy link". None of them needs the
+   server. */
 (function () {
   "use strict";
   var noUpdate = function () { return window.dash_clientside.no_update; };
@@ -60,6 +61,8 @@
       var text = function (v) { return v === null || v === undefined ? "" : String(v); };
       var changed = built && ids.some(function (id, i) { return text(built[id.key]) !== text(values[i]); });
       if (!changed) { return noUpdate(); }
+      // `at`: the store's value differs every time, also when the same choice is made again
+      // (after Back, say)
       return {pairs: ids.map(function (id, i) { return [id.key, values[i]]; }), at: Date.now()};
     },
     // the open tab: selected state, roving tabindex and style of every tab button
