@@ -130,6 +130,12 @@ class _Ids:
         return {"type": "fd-table", "name": name}
 
     @staticmethod
+    def table_row(table: str, row: int) -> dict:
+        """A body row of a short (plain HTML) table of the open panel: `table` is its
+        `table` name, `row` its place in the body (0 first)."""
+        return {"type": "fd-row", "table": table, "row": row}
+
+    @staticmethod
     def preset(slot: int) -> dict:
         return {"type": "fd-preset", "slot": slot}
 

@@ -89,7 +89,7 @@ def page(options: PageOptions) -> html.Div:
             dcc.Download(id=ids.download_panel_file),
         ]),
         dcc.Loading(html.Div(id=ids.panel, className="fd-panel", role="tabpanel"), type="dot", delay_show=400),
-        dcc.Store(id=ids.panel_key, data=""),  # what the panel shows, but for its figures (`render`)
+        dcc.Store(id=ids.panel_key, data={}),  # what the panel shows, but for its figures and rows (`render`)
         dcc.Store(id=ids.panel_views, data=None),  # a panel control's change, for `sync` (`fd.panelViews`)
         data_tools(),
     ])
@@ -165,19 +165,26 @@ def _graph(block: dict) -> html.Figure:
     ])
 
 
-def panel_figures(children: list) -> tuple[str, dict[str, object], dict[str, object]]:
+def panel_figures(children: list) -> tuple[str, dict[str, object], dict[str, object], dict[str, object]]:
     """What a drawn panel (`panel_body`'s answer) shows apart from its figures and its tables'
-    contents, as a digest; its figures by graph name, and its tables' contents by table name.
-    Two panels with the same digest differ in those only, so the page can redraw them in place
-    (Plotly.react for a figure, new rows for a table) instead of building the panel again."""
-    held = []  # (component, the property sent on its own)
+    contents, as a digest; its figures by graph name; its long tables' contents (a grid) by
+    table name; and its short tables' body rows (their cells) by ``"table:row"``. Two panels with
+    the same digest differ in those only, so the page can redraw them in place (Plotly.react for
+    a figure, new data for a grid, new cells for a row whose cells changed) instead of building
+    the panel again."""
+    held = []  # (component, the property sent on its own, its name)
 
     def walk(node):
         ident = getattr(node, "id", None)
         if isinstance(node, dcc.Graph) and isinstance(ident, dict):
-            held.append((node, "figure"))
-        elif isinstance(node, html.Div) and isinstance(ident, dict) and ident == ids.table(str(ident.get("name"))):
-            held.append((node, "children"))
+            held.append((node, "figure", ident["name"], "figure"))
+            return
+        if isinstance(node, html.Div) and isinstance(ident, dict) and ident == ids.table(str(ident.get("name"))) \
+                and not isinstance(node.children, html.Table):
+            held.append((node, "children", ident["name"], "grid"))
+            return
+        if isinstance(node, html.Tr) and isinstance(ident, dict) and ident.get("type") == ids.table_row("", 0)["type"]:
+            held.append((node, "children", f"{ident['table']}:{ident['row']}", "row"))
             return
         kids = getattr(node, "children", None)
         for child in kids if isinstance(kids, (list, tuple)) else [kids]:
@@ -186,17 +193,23 @@ def panel_figures(children: list) -> tuple[str, dict[str, object], dict[str, obj
 
     for node in children:
         walk(node)
-    values = [getattr(node, prop) for node, prop in held]
+    values = [getattr(node, prop) for node, prop, _, _ in held]
     try:
-        for node, prop in held:
+        for node, prop, _, _ in held:
             setattr(node, prop, None)
         text = plotly.io.json.to_json_plotly(children)
     finally:
-        for (node, prop), value in zip(held, values):
+        for (node, prop, _, _), value in zip(held, values):
             setattr(node, prop, value)
-    figures = {node.id["name"]: value for (node, prop), value in zip(held, values) if prop == "figure"}
-    contents = {node.id["name"]: value for (node, prop), value in zip(held, values) if prop == "children"}
-    return hashlib.sha256(text.encode()).hexdigest()[:32], figures, contents
+    parts = {"figure": {}, "grid": {}, "row": {}}
+    for (_, _, name, kind), value in zip(held, values):
+        parts[kind][name] = value
+    return hashlib.sha256(text.encode()).hexdigest()[:32], parts["figure"], parts["grid"], parts["row"]
+
+
+def row_digest(cells) -> str:
+    """A short digest of a table row's cells, for the page to tell which rows an edit changed."""
+    return hashlib.sha256(plotly.io.json.to_json_plotly(cells).encode()).hexdigest()[:16]
 
 
 def panel_body(body: PanelSpec) -> list:

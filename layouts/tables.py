@@ -10,6 +10,11 @@ more than a short table's few dozen cells: on the Energy budget panel (four mode
 table) the plain table drew the panel 0.08–0.14 s sooner in two back-to-back comparisons
 (DEVELOPERS.md, "Keeping the page fast").
 A table in sections (rows under headings) shows each heading in a first column spanning its rows.
+
+A plain table given an id has an id on each body row too (`ids.table_row`), so that an edit that
+changes one model's row sends that row only: Dash builds every component under a changed
+``children`` afresh, and the Energy budget's 58 cells, rebuilt for each edit, took the edit's
+redraw about a quarter of its time (DEVELOPERS.md, "Keeping the page fast").
 """
 
 from __future__ import annotations
@@ -17,6 +22,7 @@ from __future__ import annotations
 import dash_ag_grid as dag
 from dash import html
 
+from layouts.ids import ids
 from layouts.palette import slot_colour
 from layouts.text import render
 
@@ -71,10 +77,11 @@ def _grid(header: list[str], sections: list[tuple[str | None, list[list[str]]]],
         style={"width": "100%"})
 
 
-def _plain(header: list[str], sections: list[tuple[str | None, list[list[str]]]], column_slots: list) -> html.Table:
+def _plain(header: list[str], sections: list[tuple[str | None, list[list[str]]]], column_slots: list,
+           name: str | None = None) -> html.Table:
     """The same table as `_grid` draws, as HTML: the first cell of each row names it (a row
     header), the others hold numbers (right-aligned, ``fd-num``); a section's heading is a row
-    header spanning its rows."""
+    header spanning its rows. With a `name`, each body row has the id ``ids.table_row(name, k)``."""
     grouped = any(heading is not None for heading, _ in sections)
     head = [html.Th(h, scope="col", style=_header_style(slot), className="fd-num" if i else None)
             for i, (h, slot) in enumerate(zip(header, column_slots))]
@@ -84,8 +91,9 @@ def _plain(header: list[str], sections: list[tuple[str | None, list[list[str]]]]
     for heading, cells in sections:
         for k, row in enumerate(cells):
             lead = [html.Th(heading, scope="rowgroup", rowSpan=len(cells))] if grouped and k == 0 else []
-            rows.append(html.Tr(lead + [html.Th(row[0] if row else "", scope="row")]
-                                + [html.Td(cell, className="fd-num") for cell in row[1:]]))
+            line = lead + [html.Th(row[0] if row else "", scope="row")] + [
+                html.Td(cell, className="fd-num") for cell in row[1:]]
+            rows.append(html.Tr(line, **({"id": ids.table_row(name, len(rows))} if name else {})))
     return html.Table([html.Thead(html.Tr(head)), html.Tbody(rows)], className="fd-plain")
 
 
@@ -97,5 +105,5 @@ def table(header: list[str], rows: list[list] | None = None, sections: list[dict
     parts = [(s["heading"], [[render(cell) for cell in row] for row in s["rows"]]) for s in sections] \
         if sections else [(None, [[render(cell) for cell in row] for row in rows or []])]
     short = sum(len(rows) for _, rows in parts) <= PLAIN_ROWS
-    return html.Div(className="fd-table", children=(_plain if short else _grid)(header, parts, slots),
-                    **({"id": ident} if ident else {}))
+    body = _plain(header, parts, slots, ident.get("name") if ident else None) if short else _grid(header, parts, slots)
+    return html.Div(className="fd-table", children=body, **({"id": ident} if ident else {}))

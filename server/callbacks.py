@@ -26,7 +26,7 @@ from layouts.cards import BODY_CLASSES, card_status, chip, model_card
 from layouts.data_panel import (SECTIONS_CLASSES, TOOLS_CLASSES, data_tools_body, data_tools_sections, fit_report,
                                 map_view, messages)
 from layouts.ids import ids
-from layouts.page import notice, panel_body, panel_figures
+from layouts.page import notice, panel_body, panel_figures, row_digest
 import model
 from server import codec, data_store, state as states
 from server.cache import BudgetExceeded
@@ -316,6 +316,7 @@ def register(app, tool_options: dict) -> None:
         Output(ids.data_tools, "className"),
         Output(ids.graph(ALL), "figure"),
         Output(ids.table(ALL), "children"),
+        Output(ids.table_row(ALL, ALL), "children"),
         Output(ids.panel_key, "data"),
         Input(ids.url, "href"),
         State(ids.data_tools, "className"),
@@ -333,15 +334,26 @@ def register(app, tool_options: dict) -> None:
                                            "text": f"This panel could not be drawn: {err}"}]})
         # a panel that differs from the one shown in its figures and its tables' rows only (an
         # edit, a unit) keeps its elements: only those are sent, and Plotly redraws the figures
-        # in place
-        key, figures, contents = panel_figures(body)
-        present = [item["id"]["name"] for item in ctx.outputs_list[-3]]
-        present_tables = [item["id"]["name"] for item in ctx.outputs_list[-2]]
-        if key == shown and present == list(figures) and present_tables == list(contents):
-            children, key = no_update, no_update
-            redrawn, rows = [figures[name] for name in present], [contents[name] for name in present_tables]
+        # in place; of a short table, only the rows whose cells changed (`shown` holds a digest
+        # of each row drawn)
+        key, figures, grids, rows = panel_figures(body)
+        digests = {name: row_digest(cells) for name, cells in rows.items()}
+        shown = shown if isinstance(shown, dict) else {}
+        present = [item["id"]["name"] for item in ctx.outputs_list[-4]]
+        present_grids = [item["id"]["name"] for item in ctx.outputs_list[-3]]  # (a short table's box too)
+        present_rows = [f"{item['id']['table']}:{item['id']['row']}" for item in ctx.outputs_list[-2]]
+        if key == shown.get("key") and present == list(figures) and present_rows == list(rows) \
+                and [name for name in present_grids if name in grids] == list(grids):
+            children = no_update
+            redrawn = [figures[name] for name in present]
+            grid_data = [grids.get(name, no_update) for name in present_grids]
+            drawn = shown.get("rows") or {}
+            cells = [rows[name] if digests[name] != drawn.get(name) else no_update for name in present_rows]
+            stored = no_update if digests == drawn else {"key": key, "rows": digests}
         else:
-            children, redrawn, rows = body, [no_update] * len(present), [no_update] * len(present_tables)
+            children = body
+            redrawn, grid_data = [no_update] * len(present), [no_update] * len(present_grids)
+            cells, stored = [no_update] * len(present_rows), {"key": key, "rows": digests}
         # dropped keys, and view values that could not be used (the default is drawn instead,
         # while the control still shows what was typed)
         dropped = [p.message for p in state.notices] + [
@@ -359,7 +371,7 @@ def register(app, tool_options: dict) -> None:
             frame = data_tools_body(tools_open, data_tools_sections(tool_options) if tools_open else None)
         return (children, notice(list(state.unknown), dropped), box, f"{base}?{codec.encode(state)}", tools,
                 frame,
-                TOOLS_CLASSES["built"] if build else no_update, redrawn, rows, key)
+                TOOLS_CLASSES["built"] if build else no_update, redrawn, grid_data, cells, stored)
 
     @app.callback(
         Output(ids.data_tools_details, "open"),

@@ -12,7 +12,7 @@ from hypothesis import strategies as st
 PANEL_OUTPUT = ("..fd-panel.children...fd-notice.children...fd-notice-box.style...fd-link-text.value..."
                 "fd-data-tools.style...fd-data-tools.children...fd-data-tools.className..."
                 '{"name":["ALL"],"type":"fd-graph"}.figure...{"name":["ALL"],"type":"fd-table"}.children...'
-                'fd-panel-key.data..')
+                '{"row":["ALL"],"table":["ALL"],"type":"fd-row"}.children...fd-panel-key.data..')
 
 
 @pytest.fixture(scope="module")
@@ -36,7 +36,7 @@ def panel_update(search="?m1.h0=70", href="http://localhost/"):
     return {"output": PANEL_OUTPUT, "outputs": outputs,
             "inputs": [{"id": "fd-url", "property": "href", "value": address}],
             "state": [{"id": "fd-data-tools", "property": "className", "value": "fd-tools"},
-                      {"id": "fd-panel-key", "property": "data", "value": ""}],
+                      {"id": "fd-panel-key", "property": "data", "value": {}}],
             "changedPropIds": ["fd-url.href"]}
 
 
