@@ -228,9 +228,13 @@ def _trace(series: dict, spec: dict, yaxis: str, xaxis: str = "x", unit: str | N
 
 
 def _axis(title: str, log: bool, **extra) -> dict:
+    """A plot's axis. Its tick labels are never hidden for passing the figure's edge
+    (``ticklabeloverflow``): the margins fit them (``automargin``), and Plotly's default,
+    which measures every label at every drawing to find the ones to hide, cost the Energy
+    budget's redraw about 6 % (DEVELOPERS.md, "Keeping the page fast")."""
     return {"title": {"text": escape_for_figure(title), "standoff": 6}, "type": "log" if log else "linear",
             "showline": True, "mirror": True, "ticks": "outside", "exponentformat": "power",
-            "zeroline": False, "automargin": True, **extra}
+            "zeroline": False, "automargin": True, "ticklabeloverflow": "allow", **extra}
 
 
 def _annotation_x(x: float, log: bool) -> float:

@@ -122,6 +122,38 @@ def test_exports_are_svg_and_png_at_the_asked_size_and_nothing_goes_to_a_cloud(d
     assert dash_duo.get_logs() == []
 
 
+# Every axis text of every figure as drawn: each tick label, axis title and the figure's own box.
+_AXIS_TEXTS = """
+return Array.from(document.querySelectorAll('#fd-panel .js-plotly-plot')).map(gd => {
+  const box = gd.querySelector('.main-svg').getBoundingClientRect();
+  const texts = Array.from(gd.querySelectorAll('.xtick text, .ytick text, .g-xtitle text, .g-ytitle text'))
+    .filter(t => t.textContent.trim() && getComputedStyle(t).display !== 'none');
+  return {box: [box.left, box.top, box.right, box.bottom], hidden: gd.querySelectorAll(
+            '.xtick text[style*="display: none"], .ytick text[style*="display: none"]').length,
+          texts: texts.map(t => { const r = t.getBoundingClientRect();
+                                  return [t.textContent, r.left, r.top, r.right, r.bottom]; })};
+});
+"""
+
+
+def test_every_axis_label_is_shown_inside_its_figure_on_a_projector(dash_duo, app_factory):
+    # Plotly is told never to hide tick labels for passing the figure's edge (they are not
+    # measured for it): the margins must hold them, on every tab at 1024 × 768
+    open_link(dash_duo, app_factory(), FOUR.replace("tab=table", "tab=budget"))
+    dash_duo.driver.set_window_size(1024, 768)
+    for key in TAB_KEYS:
+        dash_duo.driver.get(f"{dash_duo.server_url}/?{codec.encode(codec.decode(FOUR.replace('tab=table', 'tab=' + key)))}")
+        wait_until(dash_duo, lambda d: d.find_elements(By.CSS_SELECTOR, "#fd-panel > *"), timeout=20)
+        wait_until(dash_duo, lambda d: not d.find_elements(By.CSS_SELECTOR, "[data-dash-is-loading]"), timeout=20)
+        for figure in dash_duo.driver.execute_script(_AXIS_TEXTS):
+            left, top, right, bottom = figure["box"]
+            assert figure["hidden"] == 0, key
+            assert figure["texts"], key  # the figure has its axes' labels
+            for text, l, t, r, b in figure["texts"]:
+                assert left - 1 <= l and r <= right + 1 and top - 1 <= t and b <= bottom + 1, (key, text)
+    assert dash_duo.get_logs() == []
+
+
 def test_no_serious_accessibility_violation_on_any_tab(dash_duo, app_factory):
     open_link(dash_duo, app_factory(), FOUR.replace("tab=table", "tab=budget"))
     for key in TAB_KEYS:
