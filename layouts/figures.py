@@ -370,53 +370,94 @@ def _guide_label(trace: dict, series: dict, x_log: bool, y_log: bool, xaxis: str
             "font": {"size": ANNOTATION_SIZE, "color": GUIDE_COLOUR}}
 
 
+# Small multiples: one figure per model, so that an edit of one model redraws its own small
+# figures only (Plotly redraws a whole figure for any change: one panel of a four-panel figure
+# cost as much as the four). Their scales are shared by explicit ranges, rounded so that an edit
+# leaves the other models' figures as they were (DEVELOPERS.md, "Keeping the page fast").
+MULTIPLES_HEIGHT = 330
+# what their labels take (automargin widens a margin that is too small, at the cost of a second
+# drawing of each small figure): a log y axis's labels (10⁻³⁰) need more room on the left; the
+# top holds the toolbar, then the model's name
+MULTIPLES_MARGIN = {"l": 66, "r": 14, "t": 56, "b": 62}
+MULTIPLES_LOG_Y_LEFT = 90
+_LINEAR_STEP = 0.05  # a linear shared range is rounded out to this (Ω_i: to 0.05)
+
+
+def _shared_range(panels: list[dict], axis: str, log: bool) -> list[float] | None:
+    """The range every small plot of a set shows on `axis` (``"x"`` or ``"y"``): all curves'
+    finite values (positive ones on a log axis), rounded out to whole decades on a log axis
+    (Plotly's log ranges are in log10) or to `_LINEAR_STEP` on a linear one."""
+    values = []
+    for panel in panels:
+        for series in panel["series"]:
+            v = np.asarray(series[axis], dtype=float)
+            v = v[np.isfinite(v) & (v > 0)] if log else v[np.isfinite(v)]
+            if v.size:
+                values += [float(v.min()), float(v.max())]
+    if not values:
+        return None
+    low, high = min(values), max(values)
+    if log:
+        low, high = np.log10(low), np.log10(high)
+        return [float(np.floor(low + 1e-9)), float(np.ceil(high - 1e-9))] if high > low else [low - 1, high + 1]
+    low = float(np.floor(low / _LINEAR_STEP + 1e-9) * _LINEAR_STEP)
+    high = float(np.ceil(high / _LINEAR_STEP - 1e-9) * _LINEAR_STEP)
+    pad = 0.02 * (high - low or 1.0)
+    return [round(low - pad, 6), round(high + pad, 6)]
+
+
+def _key_item(name: str, line: dict | None = None, symbol: str | None = None) -> dict:
+    return {"name": name, "line": line, "symbol": symbol}
+
+
 def small_multiples(spec: dict) -> dict:
-    """One small plot per model on shared axes (used for the energy budget).
+    """One small figure per model (used for the energy budget), on shared scales.
 
     ``spec["panels"]`` = ``[{"title", "slot", "series": [...], "markers"?}]``; the series are
-    components (colour = component) and guides; the legend lists each once (from the first plot).
-    Plot titles are black: colour on these plots means a component, never a model.
-    """
+    components (colour = component) and guides. Answers ``{"figures": [figure per panel],
+    "key": [{"name", "line" (colour, dash, width) or None, "symbol" or None}]}``: the figures
+    have no legend of their own; the key (drawn once under them by `layouts.page`) names each
+    component, guide and kind of epoch once. Titles are black: colour on these plots means a
+    component, never a model."""
     panels = spec["panels"]
-    n = max(len(panels), 1)
-    gap = 0.03
-    width = (1.0 - gap * (n - 1)) / n
-    data, annotations, kinds, shown = [], [], {}, set()
-    layout = _base_layout(spec, 420)
-    layout["margin"] = dict(MARGIN, t=70, b=MARGIN["b"] + 16)
+    x_log, y_log = spec.get("x_log", False), spec.get("y_log", False)
+    x_range, y_range = _shared_range(panels, "x", x_log), _shared_range(panels, "y", y_log)
+    kinds: dict[str, str] = {}  # epoch text -> symbol, the same on every small plot
+    for panel in panels:
+        for marker in panel.get("markers", []):
+            kinds.setdefault(marker["text"], EPOCH_SYMBOLS[len(kinds) % len(EPOCH_SYMBOLS)])
+    figures, key, named = [], [], set()
     for i, panel in enumerate(panels):
-        suffix = "" if i == 0 else str(i + 1)
-        x0 = i * (width + gap)
-        # only the first plot's axes set the margins: the others have the same ticks (x, matched)
-        # or none (y), and measuring their labels for the margins cost Plotly a third of its time
-        layout[f"xaxis{suffix}"] = _axis(spec.get("x_title", "") if n < 3 or i == 0 else "", spec.get("x_log", False),
-                                         domain=[x0, x0 + width], anchor=f"y{suffix}",
-                                         **({"matches": "x", "automargin": False} if i else {}))
-        layout[f"yaxis{suffix}"] = _axis(spec.get("y_title", "") if i == 0 else "", spec.get("y_log", False),
-                                         anchor=f"x{suffix}",
-                                         **({"matches": "y", "showticklabels": False, "automargin": False}
-                                            if i else {}))
-        annotations.append({"text": escape_for_figure(panel["title"]), "x": x0 + width / 2, "xref": "paper",
-                            "y": 1.0, "yref": "paper", "yanchor": "bottom", "showarrow": False,
-                            "font": {"size": FONT_SIZE}})
+        data, annotations = [], []
+        layout = _base_layout(spec, MULTIPLES_HEIGHT)
+        layout.update(title={"text": escape_for_figure(panel["title"]), "x": 0.5, "xanchor": "center",
+                             "y": 1.0, "yref": "paper", "yanchor": "bottom", "pad": {"b": 6},
+                             "font": {"size": FONT_SIZE}},
+                      margin=dict(MULTIPLES_MARGIN, **({"l": MULTIPLES_LOG_Y_LEFT} if y_log else {})),
+                      showlegend=False)
+        layout["xaxis"] = _axis(spec.get("x_title", ""), x_log, **({"range": x_range} if x_range else {}))
+        layout["yaxis"] = _axis(spec.get("y_title", ""), y_log, **({"range": y_range} if y_range else {}))
         for s in panel["series"]:
-            trace = _trace(s, spec, f"y{suffix}", xaxis=f"x{suffix}")
-            trace["showlegend"] = i == 0
+            trace = _trace(s, spec, "y")
+            trace["showlegend"] = False
             trace["meta"] = escape_for_figure(panel["title"])  # the model's label, as typed
             trace["hovertemplate"] = trace["hovertemplate"].replace("<extra>", "<extra>%{meta}: ")
             data.append(trace)
+            if trace["legendgroup"] not in named:
+                named.add(trace["legendgroup"])
+                key.append(_key_item(render(s["name"]), line=trace["line"]))
             if i == 0 and s.get("role") == "guide":
-                label = _guide_label(trace, s, spec.get("x_log", False), spec.get("y_log", False),
-                                     f"x{suffix}", f"y{suffix}")
+                label = _guide_label(trace, s, x_log, y_log, "x", "y")
                 if label:
                     annotations.append(label)
         if panel.get("markers"):
-            overlay = str(10 + i)
             markers = [{**m, "x_hover": spec.get("x_hover", "x"), "model": panel["title"]} for m in panel["markers"]]
-            data += _epoch_markers(markers, f"x{suffix}", f"y{overlay}", kinds, grey=True, shown=shown)
-            layout[f"yaxis{overlay}"] = _overlay_axis(f"y{suffix}", [0.0, 1.0])
-    layout["annotations"] = annotations
-    return {"data": data, "layout": layout}
+            data += _epoch_markers(markers, "x", "y2", kinds, grey=True)
+            layout["yaxis2"] = _overlay_axis("y", [0.0, 1.0])
+        layout["annotations"] = annotations
+        figures.append({"data": data, "layout": layout})
+    key += [_key_item(text, symbol=symbol) for text, symbol in kinds.items()]
+    return {"figures": figures, "key": key}
 
 
 def chi2_map_figure(spec: dict) -> dict:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import hashlib
+import urllib.parse
 
 import plotly.io
 from dash import dcc, html
@@ -150,19 +151,68 @@ EXPORTS = (("svg", "SVG", "vector file of this figure as shown (for papers)"),
            ("slides", "figure for slides", "16:9 bitmap, 1600 × 900 at 2× (3200 × 1800 pixels), large text"))
 
 
+# A small plot's toolbar fits its width: no selection tools (nothing on these plots is selected)
+SMALL_PLOT_REMOVED = ["sendDataToCloud", "editInChartStudio", "select2d", "lasso2d"]
+# Plotly's dash patterns (its dashStyle, for lines up to 3 px wide), for the key's line samples.
+_DASH_ARRAYS = {"solid": "", "dot": "3,3", "dash": "9,9", "longdash": "15,15", "dashdot": "9,3,3,3",
+                "longdashdot": "15,6,3,6"}
+# The marker symbols of the epochs as characters, for the key.
+_GLYPHS = {"triangle-down": "▼", "diamond": "◆", "square": "■", "star": "★", "circle": "●", "x": "✕",
+           "cross": "✚", "hexagon": "⬢"}
+
+
+def _line_sample(line: dict) -> str:
+    """A CSS background: a short stretch of `line` (colour, dash, width) as an SVG."""
+    dash = _DASH_ARRAYS.get(line.get("dash", "solid"), "")
+    svg = ("<svg xmlns='http://www.w3.org/2000/svg' width='30' height='10'><line x1='0' y1='5' x2='30' y2='5' "
+           f"stroke='{line['color']}' stroke-width='{line.get('width', 2)}'"
+           + (f" stroke-dasharray='{dash}'" if dash else "") + "/></svg>")
+    return 'url("data:image/svg+xml,' + urllib.parse.quote(svg, safe="=:/' ") + '")'
+
+
+def _key(items: list[dict]) -> html.Div:
+    """The key of a set of small plots: one entry per component, guide and kind of epoch, each a
+    single element (its sample drawn by CSS from its style or its ``data-glyph``)."""
+    spans = []
+    for item in items:
+        if item.get("symbol"):
+            spans.append(html.Span(item["name"], className="fd-key-item fd-key-symbol", role="listitem",
+                                   **{"data-glyph": _GLYPHS.get(item["symbol"], "●")}))
+        else:
+            spans.append(html.Span(item["name"], className="fd-key-item", role="listitem",
+                                   style={"backgroundImage": _line_sample(item["line"])}))
+    return html.Div(spans, className="fd-key", role="list", **{"aria-label": "key to the small plots"})
+
+
+def _exports() -> html.Div:
+    return html.Div(className="fd-exports", children=[html.Span("save:", className="fd-exports-label")] + [
+        html.Button(label, type="button", title=title, className="fd-button fd-small", **{"data-fd-export": key})
+        for key, label, title in EXPORTS])
+
+
 def _graph(block: dict) -> html.Figure:
+    """A figure block: one graph, or (``"multiples"``) one small graph per model in a row, with
+    the set's title above and its key below. The figure element keeps the block's id for pages
+    and tests to find it; each graph has a pattern-matching id (``ids.graph``: the block's name,
+    and ``-<slot>`` for a small plot), so that `render` can redraw the panel's figures in place,
+    each only when it changed."""
     name = (block.get("id") or "figure").removeprefix("fd-fig-")
-    drawn = figure(block["spec"]) if block["kind"] == "figure" else small_multiples(block["spec"])
-    # the figure element keeps the block's id for pages and tests to find it; the graph has a
-    # pattern-matching id, so that `render` can redraw the panel's figures in place
-    return html.Figure(id=block.get("id") or f"fd-fig-{name}", className="fd-figure",
-                       **{"data-fd-name": f"friedmann-desk-{name}"}, children=[
-        dcc.Graph(figure=drawn, id=ids.graph(name), className="fd-graph",
-                  config=graph_config(f"friedmann-desk-{name}")),
-        html.Div(className="fd-exports", children=[html.Span("save:", className="fd-exports-label")] + [
-            html.Button(label, type="button", title=title, className="fd-button fd-small",
-                        **{"data-fd-export": key}) for key, label, title in EXPORTS]),
-    ])
+    attributes = {"id": block.get("id") or f"fd-fig-{name}", "data-fd-name": f"friedmann-desk-{name}"}
+    if block["kind"] == "figure":
+        return html.Figure(className="fd-figure", **attributes, children=[
+            dcc.Graph(figure=figure(block["spec"]), id=ids.graph(name), className="fd-graph",
+                      config=graph_config(f"friedmann-desk-{name}")), _exports()])
+    spec = block["spec"]
+    drawn = small_multiples(spec)
+    title = render(spec.get("title") or "")
+    graphs = [dcc.Graph(figure=fig, id=ids.graph(f"{name}-{panel['slot']}"), className="fd-graph",
+                        config={**graph_config(f"friedmann-desk-{name}-m{panel['slot']}"),
+                                "modeBarButtonsToRemove": SMALL_PLOT_REMOVED})
+              for fig, panel in zip(drawn["figures"], spec["panels"])]
+    return html.Figure(className="fd-figure fd-multiples", **attributes, **{"data-fd-title": title}, children=[
+        html.Figcaption(title, className="fd-multiples-title"),
+        html.Div(graphs, className=f"fd-multiples-row fd-n{min(max(len(graphs), 1), 4)}"),
+        _key(drawn["key"]), _exports()])
 
 
 def panel_figures(children: list) -> tuple[str, dict[str, object], dict[str, object], dict[str, object]]:
@@ -207,9 +257,41 @@ def panel_figures(children: list) -> tuple[str, dict[str, object], dict[str, obj
     return hashlib.sha256(text.encode()).hexdigest()[:32], parts["figure"], parts["grid"], parts["row"]
 
 
+def _digest(value) -> str:
+    return hashlib.sha256(plotly.io.json.to_json_plotly(value).encode()).hexdigest()[:16]
+
+
 def row_digest(cells) -> str:
-    """A short digest of a table row's cells, for the page to tell which rows an edit changed."""
-    return hashlib.sha256(plotly.io.json.to_json_plotly(cells).encode()).hexdigest()[:16]
+    """A short digest of a table row's cells (or of a figure), for the page to tell which ones
+    an update changed."""
+    return _digest(cells)
+
+
+NO_CHANGE = object()  # `in_place`'s word for "leave it as it is" (the caller's no_update)
+
+
+def in_place(body: list, shown, figure_names: list[str], grid_names: list[str], row_names: list[str]) -> dict:
+    """How to bring the panel the page shows (`shown`: the panel key store, ``{"key", "rows",
+    "figures"}``; the figures, grids and rows it holds, by name) to `body`. When only figures and
+    tables' contents differ, the panel is kept and only the figures, grids and rows that changed
+    are sent (``children`` is `NO_CHANGE`); otherwise ``children`` is `body`. The answer's lists
+    follow the names given, `NO_CHANGE` for what stays; ``stored`` is the store's new value (or
+    `NO_CHANGE`)."""
+    key, figures, grids, rows = panel_figures(body)
+    digests = {"rows": {n: row_digest(c) for n, c in rows.items()},
+               "figures": {n: _digest(f) for n, f in figures.items()}}
+    shown = shown if isinstance(shown, dict) else {}
+    if key == shown.get("key") and figure_names == list(figures) and row_names == list(rows) \
+            and [n for n in grid_names if n in grids] == list(grids):
+        kept = {part: shown.get(part) or {} for part in ("rows", "figures")}
+        return {"children": NO_CHANGE,
+                "figures": [figures[n] if digests["figures"][n] != kept["figures"].get(n) else NO_CHANGE
+                            for n in figure_names],
+                "grids": [grids.get(n, NO_CHANGE) for n in grid_names],
+                "rows": [rows[n] if digests["rows"][n] != kept["rows"].get(n) else NO_CHANGE for n in row_names],
+                "stored": NO_CHANGE if digests == kept else {"key": key, **digests}}
+    return {"children": body, "figures": [NO_CHANGE] * len(figure_names), "grids": [NO_CHANGE] * len(grid_names),
+            "rows": [NO_CHANGE] * len(row_names), "stored": {"key": key, **digests}}
 
 
 def panel_body(body: PanelSpec) -> list:

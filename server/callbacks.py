@@ -26,7 +26,7 @@ from layouts.cards import BODY_CLASSES, card_status, chip, model_card
 from layouts.data_panel import (SECTIONS_CLASSES, TOOLS_CLASSES, data_tools_body, data_tools_sections, fit_report,
                                 map_view, messages)
 from layouts.ids import ids
-from layouts.page import notice, panel_body, panel_figures, row_digest
+from layouts.page import NO_CHANGE, in_place, notice, panel_body
 import model
 from server import codec, data_store, state as states
 from server.cache import BudgetExceeded
@@ -332,28 +332,15 @@ def register(app, tool_options: dict) -> None:
             logger.exception("panel %s failed for %r", state.view.tab, search)
             body = panel_body({"blocks": [{"kind": "text", "tone": "error",
                                            "text": f"This panel could not be drawn: {err}"}]})
-        # a panel that differs from the one shown in its figures and its tables' rows only (an
-        # edit, a unit) keeps its elements: only those are sent, and Plotly redraws the figures
-        # in place; of a short table, only the rows whose cells changed (`shown` holds a digest
-        # of each row drawn)
-        key, figures, grids, rows = panel_figures(body)
-        digests = {name: row_digest(cells) for name, cells in rows.items()}
-        shown = shown if isinstance(shown, dict) else {}
-        present = [item["id"]["name"] for item in ctx.outputs_list[-4]]
-        present_grids = [item["id"]["name"] for item in ctx.outputs_list[-3]]  # (a short table's box too)
-        present_rows = [f"{item['id']['table']}:{item['id']['row']}" for item in ctx.outputs_list[-2]]
-        if key == shown.get("key") and present == list(figures) and present_rows == list(rows) \
-                and [name for name in present_grids if name in grids] == list(grids):
-            children = no_update
-            redrawn = [figures[name] for name in present]
-            grid_data = [grids.get(name, no_update) for name in present_grids]
-            drawn = shown.get("rows") or {}
-            cells = [rows[name] if digests[name] != drawn.get(name) else no_update for name in present_rows]
-            stored = no_update if digests == drawn else {"key": key, "rows": digests}
-        else:
-            children = body
-            redrawn, grid_data = [no_update] * len(present), [no_update] * len(present_grids)
-            cells, stored = [no_update] * len(present_rows), {"key": key, "rows": digests}
+        # a panel that differs from the one shown in its figures and its tables' contents only (an
+        # edit, a unit) keeps its elements: only the figures, grids and rows that changed are sent
+        # (the panel key store holds a digest of each drawn), and Plotly redraws figures in place
+        plan = in_place(body, shown, [item["id"]["name"] for item in ctx.outputs_list[-4]],
+                        [item["id"]["name"] for item in ctx.outputs_list[-3]],  # (a short table's box too)
+                        [f"{item['id']['table']}:{item['id']['row']}" for item in ctx.outputs_list[-2]])
+        children, stored = ((no_update if plan[part] is NO_CHANGE else plan[part]) for part in ("children", "stored"))
+        redrawn, grid_data, cells = ([no_update if v is NO_CHANGE else v for v in plan[part]]
+                                     for part in ("figures", "grids", "rows"))
         # dropped keys, and view values that could not be used (the default is drawn instead,
         # while the control still shows what was typed)
         dropped = [p.message for p in state.notices] + [

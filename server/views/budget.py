@@ -87,5 +87,5 @@ def build(c: Comparison) -> PanelSpec:
     return {"intro": ("Each small plot is one model; colour marks the component (model colours are not used "
                       "here). Radiation falls as a⁻⁴, matter as a⁻³ and a cosmological constant stays constant: "
                       "the grey guides, each labelled at its start. Symbols at the top mark the epochs (see the "
-                      "legend; hover for the values)."),
+                      "key under the plots; hover for the values)."),
             "blocks": blocks + failures_note(c)}

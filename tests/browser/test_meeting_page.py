@@ -7,9 +7,11 @@ figure to a cloud service, and no serious or critical WCAG 2 A/AA violation on a
 from __future__ import annotations
 
 import base64
+import json
 import functools
 import os
 import struct
+import time
 import urllib.parse
 
 import pytest
@@ -119,6 +121,27 @@ def test_exports_are_svg_and_png_at_the_asked_size_and_nothing_goes_to_a_cloud(d
     assert configs and all(c[0] is False and not c[1] and not c[2] and c[3:] == ["", "svg"] for c in configs), configs
     titles = [e.get_attribute("data-title") for e in dash_duo.find_elements(".modebar-btn")]
     assert not any(t and ("Cloud" in t or "Chart Studio" in t) for t in titles), titles
+    assert dash_duo.get_logs() == []
+
+
+def test_the_small_plots_of_a_set_are_saved_as_one_figure(dash_duo, app_factory):
+    # the Energy budget's small plots are one figure per model on screen; saved, they are one
+    # figure again: every model's plot side by side, their names and the set's title in it
+    open_link(dash_duo, app_factory(), "m1.label=Alpha&m2.label=Beta&m2.w0=-0.9&m3.label=Gamma&tab=budget")
+    wait_until(dash_duo, lambda d: len(d.find_elements(By.CSS_SELECTOR, "#fd-fig-fractions .js-plotly-plot .main-svg"))
+               >= 3, timeout=20)
+    svg = urllib.parse.unquote(_export(dash_duo, "svg")["url"])
+    assert svg.startswith("data:image/svg+xml")
+    for text in ("Alpha", "Beta", "Gamma", "Density parameters", "photons", "today"):
+        assert text in svg, text
+    # three plots' axes in the one file: Plotly names each subplot's x axis group (xtick, x2tick…)
+    assert all(f'class="{axis}"' in svg for axis in ("xy", "x2y2", "x3y3")), "subplots"
+    width, height = dash_duo.driver.execute_script(
+        "const row = document.querySelector('#fd-fig-fractions .fd-multiples-row');"
+        " const gd = row.querySelector('.js-plotly-plot');"
+        " return [Math.round(row.getBoundingClientRect().width), gd._fullLayout.height + 110];")
+    assert _png_size(_export(dash_duo, "png2")["url"]) == (2 * width, 2 * height)
+    assert _png_size(_export(dash_duo, "slides")["url"]) == (3200, 1800)
     assert dash_duo.get_logs() == []
 
 
@@ -233,13 +256,15 @@ def test_plotly_comes_once_with_the_page_and_epoch_markers_are_drawn_as_traces(d
     assert len(plotly_js) == 1 and ".v" in plotly_js[0].rsplit("/", 1)[-1], plotly_js
     assert not [n for n in names if n.endswith(("/async-graph.js", "/async-dropdown.js"))]
     assert dash_duo.driver.execute_script("return window.Plotly.version") == get_plotlyjs_version()
-    read = ("const gd = document.querySelector('#fd-fig-fractions .js-plotly-plot');"
-            "return gd && gd._fullLayout ? {shapes: (gd.layout.shapes || []).length, epochs: gd.data"
-            ".filter(t => (t.legendgroup || '').startsWith('epoch-')).map(t => ({x: Array.from(t.x), "
-            "y: Array.from(t.y), legend: t.showlegend, name: t.name, symbol: t.marker.symbol[0]}))} : null;")
+    read = ("const gds = Array.from(document.querySelectorAll('#fd-fig-fractions .js-plotly-plot'));"
+            "return gds.length === 4 && gds.every(gd => gd._fullLayout) ? {shapes: gds.map(gd => (gd.layout.shapes || [])"
+            ".length), epochs: gds.flatMap(gd => gd.data.filter(t => (t.legendgroup || '').startsWith('epoch-'))"
+            ".map(t => ({x: Array.from(t.x), y: Array.from(t.y), name: t.name, symbol: t.marker.symbol[0]}))),"
+            " key: Array.from(document.querySelectorAll('#fd-fig-fractions .fd-key-symbol')).map(e => [e.textContent,"
+            " e.dataset.glyph])} : null;")
     wait_until(dash_duo, lambda d: d.execute_script(read), timeout=20)
     drawn = dash_duo.driver.execute_script(read)
-    assert drawn["shapes"] == 0  # each epoch's line is part of its trace, not a layout shape
+    assert drawn["shapes"] == [0, 0, 0, 0]  # each epoch's line is part of its trace, not a layout shape
     epochs = drawn["epochs"]
     # "today" is a = 1 by the scale factor's normalisation a(t0) = 1: one per model (four small plots)
     today = [e for e in epochs if e["name"] == "today"]
@@ -247,8 +272,12 @@ def test_plotly_comes_once_with_the_page_and_epoch_markers_are_drawn_as_traces(d
     for e in epochs:  # a dotted line from the symbol down to the foot of the plot, at one a
         assert e["x"][0] == e["x"][1] and e["y"][1] == 0 and 0 < e["y"][0] <= 1
     kinds = {e["name"] for e in epochs}
-    assert sorted(e["name"] for e in epochs if e["legend"]) == sorted(kinds)  # one legend entry per kind
-    assert len({e["symbol"] for e in epochs}) == len(kinds)  # and one symbol per kind
+    # the key under the small plots names each kind once, with its own glyph; each kind has one
+    # symbol on every plot
+    assert sorted(name for name, _ in drawn["key"]) == sorted(kinds)
+    assert len({glyph for _, glyph in drawn["key"]}) == len(kinds)
+    assert all(len({e["symbol"] for e in epochs if e["name"] == k}) == 1 for k in kinds)
+    assert len({e["symbol"] for e in epochs}) == len(kinds)
     assert dash_duo.get_logs() == []
 
 
@@ -281,9 +310,14 @@ def test_an_edit_redraws_the_budget_panel_in_place_with_the_new_epochs(dash_duo,
         "return Array.from(document.querySelectorAll('#fd-panel .fd-figure, #fd-panel .fd-table'))"
         ".map(e => e.dataset.fdProbe || '')")
     assert kept and set(kept) == {"kept"}, kept
-    wait_until(dash_duo, lambda d: d.execute_script(
-        "return Array.from(document.querySelectorAll('#fd-panel .js-plotly-plot'))"
-        ".every((p, i) => p.data !== window.__fdData[i]);"), timeout=20)
+    # m2's small plots and the plots of all models are drawn anew; m1's small plots are left alone
+    redrawn = ("return Array.from(document.querySelectorAll('#fd-panel .js-plotly-plot'))"
+               ".map((p, i) => [p.closest('.fd-graph').id, p.data !== window.__fdData[i]]);")
+    wait_until(dash_duo, lambda d: all(new for ident, new in d.execute_script(redrawn) if '-1"' not in ident),
+               timeout=20)
+    time.sleep(0.5)
+    assert [json.loads(ident)["name"] for ident, new in dash_duo.driver.execute_script(redrawn) if not new] == [
+        "fractions-1", "densities-1"]
     # flat ΛCDM, radiation neglected: q = 0 at 1 + z = (2 Ω_Λ / Ω_m)^(1/3) (textbook closed form);
     # radiation moves it by about 0.1 %, well inside the 1 % allowed here
     cosmo = codec.decode("m1.label=Base").models[0].to_cosmology()

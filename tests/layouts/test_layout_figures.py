@@ -4,6 +4,8 @@ text, and the data tools' texts built from the constants they describe."""
 
 from __future__ import annotations
 
+import json
+
 import numpy as np
 
 import model
@@ -32,11 +34,46 @@ def test_layouts_choose_the_look_from_the_roles():
                   {"name": "critical density", "role": "component", "component": "critical", "slot": 1, "x": x,
                    "y": x},
                   {"name": "slope", "role": "guide", "component": "photons", "slot": 1, "x": x, "y": x}]}]}
-    photons, critical, guide = small_multiples(budget)["data"]
+    (drawn,) = small_multiples(budget)["figures"]  # one small figure per model
+    photons, critical, guide = drawn["data"]
     # component colours from Okabe & Ito (2008), "Color Universal Design"
     assert photons["line"]["color"] == OKABE_ITO["orange"] == "#E69F00"
     assert critical["line"]["dash"] == "dash" and guide["line"]["dash"] == "dot"
     assert guide["line"]["width"] < photons["line"]["width"]
+
+
+def _panel(slot, y, markers=()):
+    a = np.geomspace(1e-7, 10.0, 50)
+    return {"title": f"M{slot}", "slot": slot, "markers": list(markers), "series": [
+        {"name": "photons", "role": "component", "component": "photons", "slot": slot, "x": a, "y": y(a)},
+        {"name": "dark energy", "role": "component", "component": "dark_energy", "slot": slot, "x": a, "y": 1 - y(a)}]}
+
+
+def test_small_multiples_are_one_figure_a_model_on_scales_an_edit_of_another_leaves_alone():
+    spec = {"title": "t", "x_title": "a", "y_title": "Ω", "x_hover": "a", "x_log": True, "unit": "",
+            "panels": [_panel(1, lambda a: 1 / (1 + a), [{"x": 1.0, "text": "today"}]),
+                       _panel(2, lambda a: 0.98 / (1 + a), [{"x": 1.0, "text": "today"},
+                                                           {"x": 0.6, "text": "acceleration begins"}])]}
+    drawn = small_multiples(spec)
+    first, second = drawn["figures"]
+    # shared scales: whole decades of a (log10 of 1e-7 and 10) and Ω rounded out to 0.05, padded
+    assert first["layout"]["xaxis"]["range"] == second["layout"]["xaxis"]["range"] == [-7.0, 1.0]
+    low, high = first["layout"]["yaxis"]["range"]
+    assert first["layout"]["yaxis"]["range"] == second["layout"]["yaxis"]["range"]
+    assert low < 0 < 1 < high and abs(low / 0.02 + 1) < 1e-6  # the 0..1 range, 2 % on either side
+    assert not first["layout"]["showlegend"] and first["layout"]["title"]["text"] == "M1"
+    # the key names each component and each kind of epoch once, a kind with one symbol everywhere
+    assert [k["name"] for k in drawn["key"]] == ["photons", "dark energy", "today", "acceleration begins"]
+    symbols = {k["name"]: k["symbol"] for k in drawn["key"] if k["symbol"]}
+    for fig in drawn["figures"]:
+        for trace in fig["data"]:
+            if trace["legendgroup"].startswith("epoch-"):
+                assert trace["marker"]["symbol"][0] == symbols[trace["name"]] and trace["yaxis"] == "y2"
+    # m2 edited within the rounding of the shared range: m1's figure is what it was, to the byte
+    edited = {**spec, "panels": [spec["panels"][0], _panel(2, lambda a: 0.97 / (1 + a))]}
+    again = small_multiples(edited)["figures"]
+    assert json.dumps(again[0], sort_keys=True) == json.dumps(first, sort_keys=True)
+    assert json.dumps(again[1], sort_keys=True) != json.dumps(second, sort_keys=True)
 
 
 def test_crowded_residuals_are_lighter_and_pulls_stay_out_of_the_legend():

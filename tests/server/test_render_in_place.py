@@ -1,9 +1,10 @@
 """`render` called through the page-update route as the browser calls it: a panel that differs
-from the one drawn in its figures and its tables' cells only is redrawn in place, and of a short
-table only the rows whose cells changed are sent (each body row has its own id, and the panel
-key store holds a digest of every row drawn). Dash builds every component under a changed
-``children`` afresh, so sending all rows of the Energy budget's epochs table cost each edit its
-58 cells."""
+from the one drawn in its figures and its tables' cells only is redrawn in place, and only the
+figures and the short tables' rows that changed are sent (each body row has its own id, the
+Energy budget's small plots are one figure per model, and the panel key store holds a digest of
+every row and figure drawn). Dash builds every component under a changed ``children`` afresh,
+and Plotly redraws a whole figure for any change in it, so an edit of one model sent and drew
+everything before."""
 
 from __future__ import annotations
 
@@ -72,12 +73,14 @@ def _cells(row) -> list[str]:
     return [cell["props"]["children"] for cell in row]
 
 
-def test_an_edit_sends_the_changed_row_only(draw):
+def test_an_edit_sends_the_changed_row_and_figures_only(draw):
     first = draw(BASE)
     children = first[ids.panel]["children"]
     drawn = _drawn_ids(children)
     assert [r["row"] for r in drawn["fd-row"]] == [0, 1, 2]  # one row a model in the epochs table
-    assert {g["name"] for g in drawn["fd-graph"]} == {"fractions", "densities", "w", "q"}
+    # the budget's small plots are one figure per model
+    assert [g["name"] for g in drawn["fd-graph"]] == [
+        "fractions-1", "fractions-2", "fractions-3", "densities-1", "densities-2", "densities-3", "w", "q"]
     key = first[ids.panel_key]["data"]
     assert set(key["rows"]) == {"t0:0", "t0:1", "t0:2"}
 
@@ -89,8 +92,9 @@ def test_an_edit_sends_the_changed_row_only(draw):
     assert row == {"children": row["children"]}
     assert json.loads(next(iter(rows)))["row"] == 1
     assert _cells(row["children"])[0] == "Thawing"
-    figures = [k for k in edited if k.startswith("{") and json.loads(k)["type"] == "fd-graph"]
-    assert len(figures) == 4
+    # of the figures, m2's small plots and the two plots of all models: m1's and m3's stay as drawn
+    figures = [json.loads(k)["name"] for k in edited if k.startswith("{") and json.loads(k)["type"] == "fd-graph"]
+    assert sorted(figures) == ["densities-2", "fractions-2", "q", "w"]
     # the new row's acceleration redshift (sixth column) is flat ΛCDM's: q = 0 at
     # 1 + z = (2 Ω_Λ / Ω_m)^(1/3) (textbook closed form, radiation neglected: about 0.1 % off)
     cosmo = codec.decode("m1.label=Base").models[0].to_cosmology()
@@ -99,12 +103,14 @@ def test_an_edit_sends_the_changed_row_only(draw):
     # the store now holds the new row's digest, the others' unchanged
     new_key = edited[ids.panel_key]["data"]
     assert new_key["key"] == key["key"] and new_key["rows"]["t0:1"] != key["rows"]["t0:1"]
+    assert new_key["figures"]["fractions-1"] == key["figures"]["fractions-1"]
+    assert new_key["figures"]["fractions-2"] != key["figures"]["fractions-2"]
     assert {k: v for k, v in new_key["rows"].items() if k != "t0:1"} == {
         k: v for k, v in key["rows"].items() if k != "t0:1"}
 
-    # the same link again: figures are sent (Plotly decides), but no row and no new key
+    # the same link again: nothing of the panel is sent, and no new key
     again = draw(BASE.replace("m2.w0=-0.9&m2.wa=-0.3", "m2.w0=-1"), drawn, new_key)
-    assert not [k for k in again if k.startswith("{") and json.loads(k)["type"] == "fd-row"]
+    assert not [k for k in again if k.startswith("{") and json.loads(k)["type"] in ("fd-row", "fd-graph")]
     assert ids.panel_key not in again
 
 
