@@ -121,7 +121,8 @@ class _Ids:
 
     @staticmethod
     def graph(name: str) -> dict:
-        """A figure of the open panel (`name`: its block's id without ``fd-fig-``)."""
+        """A figure of the open panel (`name`: its block's id without ``fd-fig-``; a small plot of
+        a set, one per model, adds ``-<slot>``)."""
         return {"type": "fd-graph", "name": name}
 
     @staticmethod
