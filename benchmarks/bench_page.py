@@ -2,7 +2,8 @@
 
 Target (dashboard issue): a four-model link to any panel rendered within 3 s. "Rendered"
 means every Plotly figure (or the table) of the open panel is in the DOM with its traces
-drawn and the model cards are filled, measured from the navigation request.
+drawn and the models' chips (their one-line summaries; a card is built when its chip opens it)
+are filled, measured from the navigation request.
 """
 
 import statistics
@@ -18,8 +19,8 @@ TABS = tuple(key for key in TAB_KEYS if key != "data")  # every panel that draws
 _RENDERED = """
 const panel = document.getElementById('fd-panel');
 if (!panel || document.querySelector('._dash-loading')) return false;
-const cards = document.querySelectorAll('.fd-card');
-if (cards.length < 4) return false;
+const chips = document.querySelectorAll('.fd-chip .fd-chip-label');
+if (chips.length < 4) return false;
 const plots = panel.querySelectorAll('.js-plotly-plot');
 const tables = panel.querySelectorAll('table, .fd-grid');
 if (plots.length === 0 && tables.length === 0) return false;
