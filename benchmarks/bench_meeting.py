@@ -71,7 +71,7 @@ def _wait_drawn(driver, start, timeout=30.0):
 
 
 def _draw(driver, url):
-    driver.execute_script("window.__fdBefore = []; window.__fdEdited = null;")
+    driver.execute_script("window.__fdBefore = [];")
     start = time.perf_counter()
     driver.get(url)
     return _wait_drawn(driver, start)

@@ -258,12 +258,11 @@ def _title(text) -> dict:
             "font": {"size": TITLE_SIZE}}
 
 
-def _epoch_markers(markers: list[dict], xaxis: str, overlay: str, kinds: dict, grey: bool = False,
-                   shown: set | None = None) -> list[dict]:
+def _epoch_markers(markers: list[dict], xaxis: str, overlay: str, kinds: dict, grey: bool = False) -> list[dict]:
     """Epoch markers (equality, acceleration, today…) as a dotted vertical line ending in one
     symbol near the top of the plot, never as text on the plot: labels of nearby epochs would
     pile on each other. Each kind of epoch has its own symbol and one legend entry (`kinds`:
-    text -> symbol, filled in order of appearance; `shown`: kinds already in the legend); the
+    text -> symbol, filled in order of appearance); the
     hover names the epoch, its position and the model. Models' symbols are stacked a little
     apart so four "today"s at nearly the same x stay four.
 
@@ -272,7 +271,7 @@ def _epoch_markers(markers: list[dict], xaxis: str, overlay: str, kinds: dict, g
     ``line-ns`` point drawn in the white outline colour, which does not show. A layout shape per
     line would be drawn by Plotly one by one after the traces: removing the Energy budget's 16
     drew its panel about 40 ms sooner (DEVELOPERS.md, "Keeping the page fast")."""
-    shown = set() if shown is None else shown
+    shown: set[str] = set()  # kinds already in the legend
     traces = []
     for marker in markers:
         kind = marker["text"]

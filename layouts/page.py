@@ -7,7 +7,7 @@ import json
 import urllib.parse
 
 import plotly.io
-from dash import dcc, html
+from dash import dcc, html, no_update
 
 from layouts.data_panel import data_tools
 from layouts.cards import slot_shell
@@ -135,12 +135,12 @@ def _control(control: dict):
     return html.Div(parts, className="fd-control")
 
 
-def graph_config(name: str) -> dict:
+def graph_config(name: str, remove: tuple[str, ...] = ()) -> dict:
     """The Plotly toolbar of every figure: the camera saves an SVG named after the figure, and
     nothing can leave the machine (no cloud or editor buttons, no server URL: measurements
     may be unpublished)."""
     return {"displaylogo": False, "showSendToCloud": False, "showEditInChartStudio": False, "showLink": False,
-            "plotlyServerURL": "", "modeBarButtonsToRemove": ["sendDataToCloud", "editInChartStudio"],
+            "plotlyServerURL": "", "modeBarButtonsToRemove": ["sendDataToCloud", "editInChartStudio", *remove],
             "toImageButtonOptions": {"format": "svg", "filename": name, "scale": 1}}
 
 
@@ -153,7 +153,7 @@ EXPORTS = (("svg", "SVG", "vector file of this figure as shown (for papers)"),
 
 
 # A small plot's toolbar fits its width: no selection tools (nothing on these plots is selected)
-SMALL_PLOT_REMOVED = ["sendDataToCloud", "editInChartStudio", "select2d", "lasso2d"]
+SMALL_PLOT_REMOVED = ("select2d", "lasso2d")
 # Plotly's dash patterns (its dashStyle, for lines up to 3 px wide), for the key's line samples.
 _DASH_ARRAYS = {"solid": "", "dot": "3,3", "dash": "9,9", "longdash": "15,15", "dashdot": "9,3,3,3",
                 "longdashdot": "15,6,3,6"}
@@ -207,8 +207,7 @@ def _graph(block: dict) -> html.Figure:
     drawn = small_multiples(spec)
     title = render(spec.get("title") or "")
     graphs = [dcc.Graph(figure=fig, id=ids.graph(f"{name}-{panel['slot']}"), className="fd-graph",
-                        config={**graph_config(f"friedmann-desk-{name}-m{panel['slot']}"),
-                                "modeBarButtonsToRemove": SMALL_PLOT_REMOVED})
+                        config=graph_config(f"friedmann-desk-{name}-m{panel['slot']}", SMALL_PLOT_REMOVED))
               for fig, panel in zip(drawn["figures"], spec["panels"])]
     return html.Figure(className="fd-figure fd-multiples", **attributes, **{"data-fd-title": title}, children=[
         html.Figcaption(title, className="fd-multiples-title"),
@@ -234,7 +233,8 @@ def panel_figures(children: list) -> tuple[str, dict[str, object], dict[str, obj
                 and not isinstance(node.children, html.Table):
             held.append((node, "children", ident["name"], "grid"))
             return
-        if isinstance(node, html.Tr) and isinstance(ident, dict) and ident.get("type") == ids.table_row("", 0)["type"]:
+        if isinstance(node, html.Tr) and isinstance(ident, dict) \
+                and ident == ids.table_row(str(ident.get("table")), ident.get("row")):
             held.append((node, "children", f"{ident['table']}:{ident['row']}", "row"))
             return
         kids = getattr(node, "children", None)
@@ -265,6 +265,8 @@ def _numpy_plain(value):
 
 
 def _digest(value) -> str:
+    """A short digest of a figure or of a table row's cells, for the page to tell which ones an
+    update changed."""
     # the standard encoder is a third faster than Plotly's on these (mostly strings: the curves
     # are base64 already); Plotly's takes what it cannot write (components, in a row's cells)
     try:
@@ -274,37 +276,28 @@ def _digest(value) -> str:
     return hashlib.sha256(text.encode()).hexdigest()[:16]
 
 
-def row_digest(cells) -> str:
-    """A short digest of a table row's cells (or of a figure), for the page to tell which ones
-    an update changed."""
-    return _digest(cells)
-
-
-NO_CHANGE = object()  # `in_place`'s word for "leave it as it is" (the caller's no_update)
-
-
 def in_place(body: list, shown, figure_names: list[str], grid_names: list[str], row_names: list[str]) -> dict:
     """How to bring the panel the page shows (`shown`: the panel key store, ``{"key", "rows",
     "figures"}``; the figures, grids and rows it holds, by name) to `body`. When only figures and
     tables' contents differ, the panel is kept and only the figures, grids and rows that changed
-    are sent (``children`` is `NO_CHANGE`); otherwise ``children`` is `body`. The answer's lists
-    follow the names given, `NO_CHANGE` for what stays; ``stored`` is the store's new value (or
-    `NO_CHANGE`)."""
+    are sent (``children`` is ``no_update``); otherwise ``children`` is `body`. The answer's lists
+    follow the names given, ``no_update`` for what stays; ``stored`` is the store's new value (or
+    ``no_update``)."""
     key, figures, grids, rows = panel_figures(body)
-    digests = {"rows": {n: row_digest(c) for n, c in rows.items()},
+    digests = {"rows": {n: _digest(c) for n, c in rows.items()},
                "figures": {n: _digest(f) for n, f in figures.items()}}
     shown = shown if isinstance(shown, dict) else {}
     if key == shown.get("key") and figure_names == list(figures) and row_names == list(rows) \
             and [n for n in grid_names if n in grids] == list(grids):
         kept = {part: shown.get(part) or {} for part in ("rows", "figures")}
-        return {"children": NO_CHANGE,
-                "figures": [figures[n] if digests["figures"][n] != kept["figures"].get(n) else NO_CHANGE
+        return {"children": no_update,
+                "figures": [figures[n] if digests["figures"][n] != kept["figures"].get(n) else no_update
                             for n in figure_names],
-                "grids": [grids.get(n, NO_CHANGE) for n in grid_names],
-                "rows": [rows[n] if digests["rows"][n] != kept["rows"].get(n) else NO_CHANGE for n in row_names],
-                "stored": NO_CHANGE if digests == kept else {"key": key, **digests}}
-    return {"children": body, "figures": [NO_CHANGE] * len(figure_names), "grids": [NO_CHANGE] * len(grid_names),
-            "rows": [NO_CHANGE] * len(row_names), "stored": {"key": key, **digests}}
+                "grids": [grids.get(n, no_update) for n in grid_names],
+                "rows": [rows[n] if digests["rows"][n] != kept["rows"].get(n) else no_update for n in row_names],
+                "stored": no_update if digests == kept else {"key": key, **digests}}
+    return {"children": body, "figures": [no_update] * len(figure_names), "grids": [no_update] * len(grid_names),
+            "rows": [no_update] * len(row_names), "stored": {"key": key, **digests}}
 
 
 def panel_body(body: PanelSpec) -> list:

@@ -26,7 +26,7 @@ from layouts.cards import BODY_CLASSES, card_status, chip, model_card
 from layouts.data_panel import (SECTIONS_CLASSES, TOOLS_CLASSES, data_tools_body, data_tools_sections, fit_report,
                                 map_view, messages)
 from layouts.ids import ids
-from layouts.page import NO_CHANGE, in_place, notice, panel_body
+from layouts.page import in_place, notice, panel_body
 import model
 from server import codec, data_store, state as states
 from server.cache import BudgetExceeded
@@ -338,9 +338,8 @@ def register(app, tool_options: dict) -> None:
         plan = in_place(body, shown, [item["id"]["name"] for item in ctx.outputs_list[-4]],
                         [item["id"]["name"] for item in ctx.outputs_list[-3]],  # (a short table's box too)
                         [f"{item['id']['table']}:{item['id']['row']}" for item in ctx.outputs_list[-2]])
-        children, stored = ((no_update if plan[part] is NO_CHANGE else plan[part]) for part in ("children", "stored"))
-        redrawn, grid_data, cells = ([no_update if v is NO_CHANGE else v for v in plan[part]]
-                                     for part in ("figures", "grids", "rows"))
+        children, redrawn, grid_data, cells, stored = (
+            plan[part] for part in ("children", "figures", "grids", "rows", "stored"))
         # dropped keys, and view values that could not be used (the default is drawn instead,
         # while the control still shows what was typed)
         dropped = [p.message for p in state.notices] + [

@@ -83,23 +83,20 @@
     return {data: data, layout: layout};
   }
 
+  // the figure to save from a figure box, and its size on screen
   function figureOf(box) {
-    var gds = box.querySelectorAll(".js-plotly-plot");
+    var gds = box.querySelectorAll(".js-plotly-plot"), full = gds[0]._fullLayout || {};
     if (gds.length > 1) {
-      var full = gds[0]._fullLayout || {}, row = box.querySelector(".fd-multiples-row") || box;
-      var joined = combine(gds, box.getAttribute("data-fd-title") || "");
-      joined.layout.width = Math.round(row.getBoundingClientRect().width) || 1200;
-      joined.layout.height = (full.height || 330) + 110;
-      return joined;
+      var row = box.querySelector(".fd-multiples-row") || box;
+      return {figure: combine(gds, box.getAttribute("data-fd-title") || ""),
+              width: Math.round(row.getBoundingClientRect().width) || 1200, height: (full.height || 330) + 110};
     }
-    return gds.length ? {data: gds[0].data, layout: copy(gds[0].layout), size: gds[0]._fullLayout} : null;
+    return {figure: {data: gds[0].data, layout: copy(gds[0].layout)}, width: full.width || 900,
+            height: full.height || 450};
   }
 
   function draw(box, kind) {
-    var figure = figureOf(box);
-    var full = figure.size || figure.layout;
-    delete figure.size;
-    var width = full.width || 900, height = full.height || 450;
+    var shown = figureOf(box), figure = shown.figure, width = shown.width, height = shown.height;
     var options;
     if (kind === "svg") { options = {format: "svg", width: width, height: height, scale: 1}; }
     else if (kind === "png2" || kind === "png3") {
@@ -129,5 +126,5 @@
   });
 
   // tests replace `save` to catch the file instead of downloading it
-  window.fdExport = {save: save, draw: draw, combine: combine, SLIDES: SLIDES};
+  window.fdExport = {save: save, draw: draw, SLIDES: SLIDES};
 })();
