@@ -356,17 +356,22 @@ def figure(spec: dict) -> dict:
     return {"data": data, "layout": layout}
 
 
-def _guide_label(trace: dict, series: dict, x_log: bool, y_log: bool, xaxis: str, yaxis: str) -> dict | None:
+def _guide_label(trace: dict, series: dict, x_log: bool, y_log: bool, xaxis: str, yaxis: str,
+                 y_range: list[float] | None = None) -> dict | None:
     """A slope guide's name written at its left end, so the three guides are told apart on the
-    plot itself and not only by dash."""
+    plot itself and not only by dash: above the guide, or below it when the guide starts in the
+    upper half of `y_range` (the plot's range, log10 on a log axis), so that no label rises out
+    of the plot into its title."""
     x, y = np.asarray(series["x"], dtype=float), np.asarray(series["y"], dtype=float)
     ok = np.isfinite(x) & np.isfinite(y) & ((y > 0) if y_log else True)
     if not ok.any():
         return None
     i = int(np.argmax(ok))
-    return {"text": trace["name"], "x": _annotation_x(float(x[i]), x_log), "y": _annotation_x(float(y[i]), y_log),
-            "xref": xaxis, "yref": yaxis, "xanchor": "left", "yanchor": "bottom", "showarrow": False,
-            "font": {"size": ANNOTATION_SIZE, "color": GUIDE_COLOUR}}
+    at = _annotation_x(float(y[i]), y_log)
+    high = y_range is not None and at > 0.5 * (y_range[0] + y_range[1])
+    return {"text": trace["name"], "x": _annotation_x(float(x[i]), x_log), "y": at,
+            "xref": xaxis, "yref": yaxis, "xanchor": "left", "yanchor": "top" if high else "bottom",
+            "xshift": 4 if high else 0, "showarrow": False, "font": {"size": ANNOTATION_SIZE, "color": GUIDE_COLOUR}}
 
 
 # Small multiples: one figure per model, so that an edit of one model redraws its own small
@@ -446,7 +451,7 @@ def small_multiples(spec: dict) -> dict:
                 named.add(trace["legendgroup"])
                 key.append(_key_item(render(s["name"]), line=trace["line"]))
             if i == 0 and s.get("role") == "guide":
-                label = _guide_label(trace, s, x_log, y_log, "x", "y")
+                label = _guide_label(trace, s, x_log, y_log, "x", "y", y_range)
                 if label:
                     annotations.append(label)
         if panel.get("markers"):

@@ -123,3 +123,22 @@ def test_epoch_markers_are_one_trace_each_and_four_models_at_one_epoch_stay_apar
     assert [t["showlegend"] for t in epochs] == [True, False, False, False]
     assert [t["line"]["color"] for t in epochs] == [slot_colour(s) for s in range(1, 5)]
     assert drawn["layout"][epochs[0]["yaxis"].replace("y", "yaxis")]["range"] == [0, 1]
+
+
+def test_a_guide_label_stays_inside_its_small_plot():
+    # a guide starting at the top of the plot is labelled below its start, one lower down above it:
+    # neither rises into the plot's title
+    a = np.geomspace(1e-7, 10.0, 2)
+    spec = {"title": "t", "x_title": "a", "y_title": "ρ", "x_hover": "a", "x_log": True, "y_log": True, "unit": "",
+            "panels": [{"title": "M1", "slot": 1, "series": [
+                {"name": "photons", "role": "component", "component": "photons", "slot": 1, "x": a,
+                 "y": 1e-30 * a ** -4},
+                {"name": "slope ∝ a⁻⁴", "role": "guide", "component": "photons", "slot": 1, "x": a,
+                 "y": 1e-30 * a ** -4},
+                {"name": "slope constant", "role": "guide", "component": "dark_energy", "slot": 1, "x": a,
+                 "y": np.full(2, 1e-26)}]}]}
+    (drawn,) = small_multiples(spec)["figures"]
+    labels = {n["text"]: n for n in drawn["layout"]["annotations"]}
+    assert labels["slope ∝ a⁻⁴"]["yanchor"] == "top" and labels["slope constant"]["yanchor"] == "bottom"
+    low, high = drawn["layout"]["yaxis"]["range"]
+    assert low <= labels["slope constant"]["y"] < labels["slope ∝ a⁻⁴"]["y"] <= high
